@@ -1,0 +1,164 @@
+//! From the poles of several probe signals to one list of modes.
+//!
+//! Each probe's signal is inverted on its own; a mode is then the cluster of
+//! poles, at most one per probe, whose complex frequencies agree. Merging
+//! rule (documented for users in DEVELOPERS.md):
+//!
+//! 1. Poles are sorted by frequency; a pole joins the current cluster when
+//!    its probe is not yet in it and its complex frequency ω differs from the
+//!    cluster's best pole by less than `merge_tol·|ω|`, with
+//!    `merge_tol = min(1e-4, max(1e-7, 100 × (larger error estimate)))`.
+//!    Distinct modes closer than 1e-4 in relative frequency are still kept
+//!    apart when one probe sees both, since a cluster takes one pole per probe.
+//! 2. The cluster's figures are those of its pole with the smallest error
+//!    estimate; its reported error is the larger of that estimate and the
+//!    spread of the cluster's well-determined poles (error within 10× the best).
+//! 3. The leapfrog scheme maps an exact mode of the spatial operator,
+//!    ω, to a sampled rotation θ = ω̃Δt with sin(θ/2) = ωΔt/2. The poles give
+//!    ω̃; the reported mode is ω = (2/Δt) sin(ω̃Δt/2) (complex), which removes
+//!    the time-discretisation error and leaves only the spatial one.
+use crate::harminv::Pole;
+use num_complex::Complex64;
+use std::f64::consts::PI;
+
+/// A resonance of one azimuthal order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Mode {
+    /// Azimuthal order.
+    pub m: u32,
+    /// Resonance frequency, Hz.
+    pub freq_hz: f64,
+    /// Field decay rate γ, 1/s (fields ∝ e^{−γt}).
+    pub decay: f64,
+    /// Q = π f / γ. When γ is not distinguishable from zero
+    /// (`q_is_lower_bound`), Q = π f / δγ with δγ = error·|ω|, a lower bound.
+    pub q: f64,
+    /// Whether `q` is only a lower bound (lossless within resolution).
+    pub q_is_lower_bound: bool,
+    /// Estimated relative error of the complex frequency, |δω|/|ω|.
+    pub error: f64,
+    /// Largest amplitude over the probes, relative to the strongest mode of
+    /// the same probe (0 … 1).
+    pub amplitude: f64,
+    /// How many probes saw the mode.
+    pub probes: usize,
+}
+
+/// Merges per-probe pole lists (already accepted by the estimator) into
+/// modes of order `m`, correcting for the leapfrog time step `dt` (the FDTD
+/// step, not the sample spacing).
+pub fn merge(per_probe: &[Vec<Pole>], m: u32, dt: f64) -> Vec<Mode> {
+    let mut all: Vec<(usize, Pole, f64)> = Vec::new();
+    for (p, poles) in per_probe.iter().enumerate() {
+        let peak = poles
+            .iter()
+            .map(|q| q.amplitude.norm())
+            .fold(0.0, f64::max);
+        for q in poles {
+            let rel = if peak > 0.0 {
+                q.amplitude.norm() / peak
+            } else {
+                0.0
+            };
+            all.push((p, *q, rel));
+        }
+    }
+    all.sort_by(|a, b| a.1.freq.total_cmp(&b.1.freq).then(a.0.cmp(&b.0)));
+    let mut clusters: Vec<Vec<(usize, Pole, f64)>> = Vec::new();
+    for item in all {
+        let joined = clusters.last_mut().is_some_and(|c| {
+            let best = best_of(c);
+            let tol = (100.0 * best.error.max(item.1.error)).clamp(1e-7, 1e-4);
+            let close = (item.1.omega() - best.omega()).norm() <= tol * best.omega().norm();
+            let free = c.iter().all(|x| x.0 != item.0);
+            if close && free {
+                c.push(item);
+                true
+            } else {
+                false
+            }
+        });
+        if !joined {
+            clusters.push(vec![item]);
+        }
+    }
+    clusters
+        .iter()
+        .map(|c| {
+            let best = best_of(c);
+            let spread = c
+                .iter()
+                .filter(|x| x.1.error <= 10.0 * best.error.max(1e-15))
+                .map(|x| (x.1.omega() - best.omega()).norm() / best.omega().norm())
+                .fold(0.0, f64::max);
+            let error = best.error.max(spread);
+            let w = leapfrog_correction(best.omega(), dt);
+            let freq_hz = w.re / (2.0 * PI);
+            let decay = -w.im;
+            let dgamma = error * w.norm();
+            let q_is_lower_bound = decay <= dgamma;
+            let q = PI * freq_hz / if q_is_lower_bound { dgamma } else { decay };
+            Mode {
+                m,
+                freq_hz,
+                decay,
+                q,
+                q_is_lower_bound,
+                error,
+                amplitude: c.iter().map(|x| x.2).fold(0.0, f64::max),
+                probes: c.len(),
+            }
+        })
+        .collect()
+}
+
+fn best_of(c: &[(usize, Pole, f64)]) -> Pole {
+    c.iter()
+        .min_by(|a, b| a.1.error.total_cmp(&b.1.error))
+        .map(|x| x.1)
+        .expect("clusters are never empty")
+}
+
+/// ω = (2/Δt)·sin(ω̃Δt/2): the spatial-operator frequency behind a sampled
+/// leapfrog frequency ω̃ (see the module docs).
+pub fn leapfrog_correction(omega_sampled: Complex64, dt: f64) -> Complex64 {
+    (omega_sampled * (0.5 * dt)).sin() * (2.0 / dt)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn pole(f: f64, q: f64, err: f64, amp: f64) -> Pole {
+        Pole {
+            freq: f,
+            decay: PI * f / q,
+            q,
+            amplitude: Complex64::new(amp, 0.0),
+            error: err,
+        }
+    }
+
+    #[test]
+    fn same_mode_at_several_probes_is_listed_once() {
+        let a = vec![pole(5e9, 1e4, 1e-10, 1.0), pole(6e9, 50.0, 1e-9, 0.2)];
+        let b = vec![pole(5e9 * (1.0 + 1e-9), 1e4, 1e-9, 0.5)];
+        let c = vec![pole(6e9 * (1.0 - 2e-9), 50.0, 1e-9, 0.7), pole(6.006e9, 60.0, 1e-9, 1.0)];
+        let modes = merge(&[a, b, c], 1, 1e-15);
+        assert_eq!(modes.len(), 3);
+        assert_eq!(modes[0].probes, 2);
+        assert_eq!(modes[1].probes, 2);
+        assert_eq!(modes[2].probes, 1);
+        assert!((modes[1].amplitude - 0.7).abs() < 1e-12);
+        assert!(modes[1].error >= 2e-9 * 0.99);
+    }
+
+    #[test]
+    fn leapfrog_correction_inverts_the_dispersion_relation() {
+        // sin(θ/2) = ωΔt/2 for a real ω: θ from ω, then back.
+        let (w, dt) = (2.0 * PI * 7e9, 3e-13);
+        let theta = 2.0 * (w * dt / 2.0).asin();
+        let back = leapfrog_correction(Complex64::new(theta / dt, 0.0), dt);
+        assert!((back.re - w).abs() < 1e-12 * w && back.im.abs() < 1e-6);
+    }
+}

@@ -1,0 +1,192 @@
+//! A run described as data before any field is stepped.
+//!
+//! [`plan`] decides, for one azimuthal order, everything a run will do: the
+//! time step (the computed stability limit times a safety factor), the pulse
+//! and how long it lasts, how finely probe signals are sampled, when harmonic
+//! inversion is tried and when the run gives up, where sources and probes
+//! sit, and how much memory it takes. `lathe check` prints it; [`crate::run`]
+//! executes it.
+use crate::boundary::Walls;
+use crate::coefficients::Coefficients;
+use crate::error::SolverError;
+use crate::excitation::{place, Point, Pulse};
+use crate::harminv::FdmOptions;
+use crate::stability::{stability_limit, StabilityLimit};
+use lathe_mesh::MaterialMap;
+
+/// The solver's input: a filled grid, its walls, the band and options.
+#[derive(Debug, Clone)]
+pub struct Problem {
+    /// Grid and materials.
+    pub materials: MaterialMap,
+    /// Walls of the region.
+    pub walls: Walls,
+    /// Lower band edge, Hz.
+    pub f_min: f64,
+    /// Upper band edge, Hz.
+    pub f_max: f64,
+    /// Run options.
+    pub options: RunOptions,
+}
+
+/// Tunable parts of a run, with documented defaults.
+#[derive(Debug, Clone)]
+pub struct RunOptions {
+    /// Δt as a fraction of the computed stability limit. Default 0.97: the
+    /// Lanczos estimate of λ_max is a lower bound converged to ~1e-7, so 3 %
+    /// is ample margin, and a larger step means fewer steps.
+    pub dt_safety: f64,
+    /// Length of the recorded signal at the first harmonic-inversion check,
+    /// in periods of f_min. Default 40.
+    pub min_periods: f64,
+    /// Longest recorded signal, in periods of f_min, after which the run
+    /// stops and reports what it has (flagged as not converged). Default 4000.
+    pub max_periods: f64,
+    /// Each later check is made after the signal has grown by this factor.
+    /// Default 1.5.
+    pub check_growth: f64,
+    /// The run stops as unstable when the field energy exceeds this multiple
+    /// of its value when the source stopped. Default 100 (a lossless cavity
+    /// keeps the ratio near 1).
+    pub growth_limit: f64,
+    /// Source points. Default 3 (each drives E_r, E_φ and E_z).
+    pub sources: usize,
+    /// Probe points. Default 5 (each reads all six components).
+    pub probes: usize,
+    /// Memory cap per run, bytes. Default 4 GiB.
+    pub max_memory: usize,
+    /// Harmonic-inversion options.
+    pub fdm: FdmOptions,
+}
+
+impl Default for RunOptions {
+    fn default() -> Self {
+        let mut fdm = FdmOptions::default();
+        // FDTD signals are noise-free to round-off: keep weakly coupled modes.
+        fdm.acceptance.min_relative_amplitude = 1e-8;
+        fdm.acceptance.max_error = 1e-4;
+        RunOptions {
+            dt_safety: 0.97,
+            min_periods: 40.0,
+            max_periods: 4000.0,
+            check_growth: 1.5,
+            growth_limit: 100.0,
+            sources: 3,
+            probes: 5,
+            max_memory: 4 << 30,
+            fdm,
+        }
+    }
+}
+
+/// Everything one run will do.
+#[derive(Debug, Clone)]
+pub struct RunPlan {
+    /// Azimuthal order.
+    pub m: u32,
+    /// Stability analysis of the discrete operator.
+    pub stability: StabilityLimit,
+    /// The time step, s.
+    pub dt: f64,
+    /// The source pulse.
+    pub pulse: Pulse,
+    /// Steps while the source is on.
+    pub source_steps: usize,
+    /// Probe samples are taken every `decimation` steps.
+    pub decimation: usize,
+    /// Sample spacing of probe signals, s.
+    pub sample_dt: f64,
+    /// Samples at the first harmonic-inversion check.
+    pub first_check: usize,
+    /// Growth factor between checks.
+    pub check_growth: f64,
+    /// Most samples a probe records.
+    pub max_samples: usize,
+    /// Most time steps the run takes.
+    pub max_steps: usize,
+    /// Source points.
+    pub sources: Vec<Point>,
+    /// Probe points.
+    pub probes: Vec<Point>,
+    /// Band, Hz.
+    pub f_min: f64,
+    /// Band, Hz.
+    pub f_max: f64,
+    /// Estimated memory, bytes.
+    pub memory_bytes: usize,
+}
+
+impl RunPlan {
+    /// The check schedule: sample counts at which harmonic inversion runs.
+    pub fn checks(&self) -> Vec<usize> {
+        let mut out = vec![self.first_check.min(self.max_samples)];
+        while *out.last().unwrap() < self.max_samples {
+            let next = ((*out.last().unwrap() as f64) * self.check_growth).ceil() as usize;
+            out.push(next.min(self.max_samples));
+        }
+        out
+    }
+}
+
+/// Plans the run of order `m`.
+pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
+    let (f_min, f_max) = (problem.f_min, problem.f_max);
+    if !(f_min > 0.0 && f_max > f_min && f_max.is_finite()) {
+        return Err(SolverError::BadBand { f_min, f_max });
+    }
+    let o = &problem.options;
+    let map = &problem.materials;
+    let stability = stability_limit(map, &problem.walls, m);
+    if stability.iterations == 0 {
+        return Err(SolverError::NothingToSolve { m });
+    }
+    let dt = o.dt_safety * stability.dt_max;
+    let pulse = Pulse::for_band(f_min, f_max);
+    let source_steps = (pulse.duration() / dt).ceil() as usize;
+    // Sample fast enough that nothing the pulse excites folds into the band
+    // (f_s ≥ f_max + f_top) and with at least four samples per period of f_max.
+    let f_s = (f_max + pulse.f_top()).max(4.0 * f_max);
+    let decimation = ((1.0 / (f_s * dt)).floor() as usize).max(1);
+    let sample_dt = decimation as f64 * dt;
+    let samples_for = |periods: f64| (periods / (f_min * sample_dt)).ceil() as usize;
+    let max_samples = samples_for(o.max_periods).max(64);
+    let first_check = samples_for(o.min_periods).clamp(64, max_samples);
+    let coeffs = Coefficients::new(map, &problem.walls, m, dt);
+    let (sources, probes) = place(map, &coeffs, o.sources, o.probes);
+    if sources.is_empty() {
+        return Err(SolverError::Placement { m, what: "sources" });
+    }
+    if probes.is_empty() {
+        return Err(SolverError::Placement { m, what: "probes" });
+    }
+    let g = &map.grid;
+    let nodes = 6 * (g.nr + 1) * (g.nz + 1);
+    // Fields, three E coefficient arrays, the stability analysis' three
+    // Lanczos vectors (freed before the run), probe signals.
+    let memory_bytes = 8 * (nodes + nodes / 2) + 8 * probes.len() * max_samples;
+    if memory_bytes > o.max_memory {
+        return Err(SolverError::TooMuchMemory {
+            m,
+            need_mib: memory_bytes as f64 / 1048576.0,
+            cap_mib: o.max_memory as f64 / 1048576.0,
+        });
+    }
+    Ok(RunPlan {
+        m,
+        stability,
+        dt,
+        pulse,
+        source_steps,
+        decimation,
+        sample_dt,
+        first_check,
+        check_growth: o.check_growth,
+        max_samples,
+        max_steps: source_steps + max_samples * decimation,
+        sources,
+        probes,
+        f_min,
+        f_max,
+        memory_bytes,
+    })
+}

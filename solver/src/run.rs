@@ -1,0 +1,299 @@
+//! Executing a plan: the time loop, its guards, and the stopping rule.
+//!
+//! A run has two phases. While the pulse is on, the sources inject current.
+//! After it, the structure rings down freely and the probes are sampled
+//! every `decimation` steps; at the planned checks each probe signal goes to
+//! harmonic inversion and the poles are merged into modes
+//! ([`crate::modes`]). **Stopping rule:** the run stops at the first check
+//! whose modes agree with the previous check's — same count, every
+//! frequency within 1e-6 relative and every 1/(2Q) = γ/ω within 1e-6 — or
+//! when the signals have decayed to round-off (energy below 1e-28 of its
+//! value at the end of the pulse), or at the planned maximum length (then
+//! the result is flagged as not converged).
+//!
+//! Guards: every 64 steps the field energy is computed; a non-finite value,
+//! or an energy above `growth_limit` times its value when the pulse ended, stops
+//! the run with an error naming the order, the step and the ratio. The
+//! stepping itself allocates nothing: fields, coefficients, the source table
+//! and the probe buffers (with their full capacity) exist before the first
+//! step; only the harmonic-inversion checks between chunks allocate.
+use crate::coefficients::Coefficients;
+use crate::consts::MU0;
+use crate::error::SolverError;
+use crate::excitation::Point;
+use crate::fields::Fields;
+use crate::fpu::FlushSubnormals;
+use crate::harminv::{filter_diagonalisation, FdmOptions};
+use crate::kernel::{fill_axis, update_e, update_h};
+use crate::modes::{merge, Mode};
+use crate::plan::{plan, Problem, RunPlan};
+use lathe_mesh::Component;
+use num_complex::Complex64;
+use rayon::prelude::*;
+use std::time::Instant;
+
+/// Figures of one finished run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunReport {
+    /// Azimuthal order.
+    pub m: u32,
+    /// Radial cells.
+    pub nr: usize,
+    /// Axial cells.
+    pub nz: usize,
+    /// Radial step, m.
+    pub dr: f64,
+    /// Axial step, m.
+    pub dz: f64,
+    /// Time step, s.
+    pub dt: f64,
+    /// Stability limit, s.
+    pub dt_max: f64,
+    /// Time steps taken.
+    pub steps: usize,
+    /// Cells × steps.
+    pub cell_updates: u64,
+    /// Wall time of the run including harmonic inversion, s.
+    pub seconds: f64,
+    /// Probe samples recorded after the pulse.
+    pub samples: usize,
+    /// Sample spacing, s.
+    pub sample_dt: f64,
+    /// Harmonic-inversion checks made.
+    pub checks: usize,
+    /// Whether the stopping rule was met (else the maximum length was hit).
+    pub converged: bool,
+}
+
+/// The result of one run.
+#[derive(Debug, Clone)]
+pub struct RunOutput {
+    /// Figures.
+    pub report: RunReport,
+    /// Modes found in the band, by frequency.
+    pub modes: Vec<Mode>,
+    /// The probe signals (after the pulse), for diagnostics and plots.
+    pub signals: Vec<Vec<f64>>,
+    /// Fields at the last step (axis values filled in).
+    pub fields: Fields,
+}
+
+/// Plans and runs every order of `ms` in parallel (rayon). Each run is
+/// sequential and self-contained, so results are identical for any number
+/// of threads; the first failing order (in the order of `ms`) is returned.
+pub fn solve(problem: &Problem, ms: &[u32]) -> Result<Vec<RunOutput>, SolverError> {
+    let results: Vec<Result<RunOutput, SolverError>> = ms
+        .par_iter()
+        .map(|&m| plan(problem, m).and_then(|p| run(problem, &p)))
+        .collect();
+    results.into_iter().collect()
+}
+
+/// Runs `plan` on `problem`.
+pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> {
+    let _ftz = FlushSubnormals::new();
+    let start = Instant::now();
+    let m = plan.m;
+    let map = &problem.materials;
+    let g = &map.grid;
+    let coeffs = Coefficients::new(map, &problem.walls, m, plan.dt);
+    let mut f = Fields::zeros(g);
+    let table: Vec<f64> = (0..plan.source_steps)
+        .map(|n| plan.pulse.current((n as f64 + 0.5) * plan.dt))
+        .collect();
+    let mut signals: Vec<Vec<f64>> = plan
+        .probes
+        .iter()
+        .map(|_| Vec::with_capacity(plan.max_samples))
+        .collect();
+    let energy_w = EnergyWeights::new(&coeffs, g);
+    let mut step = 0usize;
+    let guard = |f: &Fields, step: usize, reference: f64| -> Result<f64, SolverError> {
+        let e = energy_w.energy(f);
+        let time_s = step as f64 * plan.dt;
+        if !e.is_finite() {
+            return Err(SolverError::NonFinite { m, step, time_s });
+        }
+        if reference > 0.0 && e > problem.options.growth_limit * reference {
+            return Err(SolverError::Unstable {
+                m,
+                step,
+                time_s,
+                ratio: e / reference,
+            });
+        }
+        Ok(e)
+    };
+    for &s in &table {
+        update_h(&mut f, &coeffs);
+        update_e(&mut f, &coeffs);
+        inject(&mut f, &coeffs, &plan.sources, s);
+        step += 1;
+        if step % 64 == 0 {
+            guard(&f, step, 0.0)?;
+        }
+    }
+    let reference = guard(&f, step, 0.0)?;
+    let mut previous: Option<Vec<Mode>> = None;
+    let mut modes = Vec::new();
+    let mut checks = 0;
+    let mut converged = false;
+    for target in plan.checks() {
+        let mut decayed = false;
+        while signals[0].len() < target {
+            for _ in 0..plan.decimation {
+                update_h(&mut f, &coeffs);
+                update_e(&mut f, &coeffs);
+                step += 1;
+                if step % 64 == 0 {
+                    let e = guard(&f, step, reference)?;
+                    decayed |= e < 1e-28 * reference;
+                }
+            }
+            for (sig, p) in signals.iter_mut().zip(&plan.probes) {
+                sig.push(read(&f, p));
+            }
+        }
+        checks += 1;
+        let found = crate::fpu::with_gradual_underflow(|| {
+            invert(
+                &signals,
+                plan.sample_dt,
+                plan.dt,
+                m,
+                plan.f_min,
+                plan.f_max,
+                &problem.options.fdm,
+            )
+        })?;
+        let agree = previous.as_ref().is_some_and(|p| same_modes(p, &found));
+        modes = found;
+        if agree {
+            converged = true;
+            break;
+        }
+        if decayed {
+            converged = true;
+            break;
+        }
+        previous = Some(modes.clone());
+    }
+    fill_axis(&mut f, m);
+    let samples = signals[0].len();
+    Ok(RunOutput {
+        report: RunReport {
+            m,
+            nr: g.nr,
+            nz: g.nz,
+            dr: g.dr,
+            dz: g.dz,
+            dt: plan.dt,
+            dt_max: plan.stability.dt_max,
+            steps: step,
+            cell_updates: (g.cells() as u64) * step as u64,
+            seconds: start.elapsed().as_secs_f64(),
+            samples,
+            sample_dt: plan.sample_dt,
+            checks,
+            converged,
+        },
+        modes,
+        signals,
+        fields: f,
+    })
+}
+
+/// Harmonic inversion of every probe signal and merging into modes.
+pub fn invert(
+    signals: &[Vec<f64>],
+    sample_dt: f64,
+    dt: f64,
+    m: u32,
+    f_min: f64,
+    f_max: f64,
+    opts: &FdmOptions,
+) -> Result<Vec<Mode>, SolverError> {
+    let per_probe: Vec<_> = signals
+        .iter()
+        .map(|s| {
+            let c: Vec<Complex64> = s.iter().map(|&x| Complex64::new(x, 0.0)).collect();
+            filter_diagonalisation(&c, sample_dt, f_min, f_max, opts)
+                .map_err(|source| SolverError::Harminv { m, source })
+        })
+        .collect::<Result<_, _>>()?;
+    Ok(merge(&per_probe, m, dt))
+}
+
+fn same_modes(a: &[Mode], b: &[Mode]) -> bool {
+    a.len() == b.len()
+        && a.iter().zip(b).all(|(x, y)| {
+            let w = 2.0 * std::f64::consts::PI * x.freq_hz;
+            (x.freq_hz - y.freq_hz).abs() <= 1e-6 * x.freq_hz
+                && (x.decay - y.decay).abs() <= 1e-6 * w
+        })
+}
+
+/// Adds the source current: ε ∂t E = ∇×H − J, so E −= cb·J at each tap.
+fn inject(f: &mut Fields, c: &Coefficients, sources: &[Point], s: f64) {
+    for p in sources {
+        for t in &p.taps {
+            let cb = c.cb(t.component)[t.index];
+            f.get_mut(t.component)[t.index] -= cb * t.weight * s;
+        }
+    }
+}
+
+fn read(f: &Fields, p: &Point) -> f64 {
+    p.taps
+        .iter()
+        .map(|t| t.weight * f.get(t.component)[t.index])
+        .sum()
+}
+
+/// Row weights for the field energy ½Σ(εE² + μH²)·r·Δr·Δz (up to a constant).
+struct EnergyWeights {
+    r_int: Vec<f64>,
+    r_half: Vec<f64>,
+    eps: [Vec<f64>; 3],
+}
+
+impl EnergyWeights {
+    fn new(c: &Coefficients, g: &lathe_mesh::Grid) -> Self {
+        let eps = [Component::Er, Component::Ephi, Component::Ez]
+            .map(|k| c.cb(k).iter().map(|&b| if b == 0.0 { 0.0 } else { c.dt / b }).collect());
+        let mut r_int: Vec<f64> = (0..=g.nr).map(|i| g.r_int(i)).collect();
+        r_int[0] = g.dr / 8.0;
+        EnergyWeights {
+            r_int,
+            r_half: (0..g.nr).map(|i| g.r_half(i)).collect(),
+            eps,
+        }
+    }
+
+    fn energy(&self, f: &Fields) -> f64 {
+        let mut total = 0.0;
+        for (k, comp) in [Component::Er, Component::Ephi, Component::Ez].iter().enumerate() {
+            let rows = if comp.staggering().0 { &self.r_half } else { &self.r_int };
+            let len = f.row_len(*comp);
+            let v = f.get(*comp);
+            for (i, r) in rows.iter().enumerate() {
+                let s: f64 = v[i * len..(i + 1) * len]
+                    .iter()
+                    .zip(&self.eps[k][i * len..(i + 1) * len])
+                    .map(|(x, e)| e * x * x)
+                    .sum();
+                total += r * s;
+            }
+        }
+        for comp in [Component::Hr, Component::Hphi, Component::Hz] {
+            let rows = if comp.staggering().0 { &self.r_half } else { &self.r_int };
+            let len = f.row_len(comp);
+            let v = f.get(comp);
+            for (i, r) in rows.iter().enumerate() {
+                let s: f64 = v[i * len..(i + 1) * len].iter().map(|x| x * x).sum();
+                total += r * MU0 * s;
+            }
+        }
+        total
+    }
+}

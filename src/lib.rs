@@ -1,0 +1,49 @@
+//! **lathe** computes the resonances — frequency and Q — of rotationally
+//! symmetric electromagnetic structures: dielectric resonators in metal
+//! enclosures, cavities, and (in later releases) open resonators and
+//! antennas. For each azimuthal order m the 3D problem is a 2D problem in
+//! (r, z), solved by body-of-revolution FDTD; frequencies and Q come from
+//! harmonic inversion of the ring-down.
+//!
+//! This crate is the facade: it re-exports the geometry crate
+//! ([`mesh`]) and the solver ([`solver`]), and adds the scenario reader
+//! ([`scenario`]) and result output ([`output`]) used by the `lathe`
+//! command.
+//!
+//! ```
+//! use lathe::scenario::Scenario;
+//!
+//! // A dielectric puck (ε_r 9.4) on the floor of a closed copper can,
+//! // searched for its m = 0 modes between 6 and 11 GHz.
+//! let text = r#"
+//!     [region]
+//!     radius = 7.3
+//!     z_min = 0.0
+//!     z_max = 9.1
+//!     cell = 0.35
+//!     [[body]]
+//!     shape = "cylinder"
+//!     radius = 3.1
+//!     height = 2.6
+//!     base = 0.0
+//!     eps_r = 9.4
+//!     [search]
+//!     m = [0]
+//!     f_min = 6.0
+//!     f_max = 11.0
+//! "#;
+//! let scenario = Scenario::parse(text, "puck.toml").unwrap();
+//! let problem = scenario.problem().unwrap();
+//! let runs = lathe::solver::solve(&problem, &scenario.m).unwrap();
+//! for mode in &runs[0].modes {
+//!     println!("m = {}  f = {:.4} GHz  Q ≥ {:.2e}", mode.m, mode.freq_hz / 1e9, mode.q);
+//! }
+//! assert!(!runs[0].modes.is_empty());
+//! ```
+#![deny(missing_docs)]
+
+pub mod output;
+pub mod scenario;
+
+pub use lathe_mesh as mesh;
+pub use lathe_solver as solver;

@@ -1,0 +1,168 @@
+//! Result output: the mode table and the JSON document of `lathe modes`.
+//!
+//! Units at this edge: GHz and mm in the table, SI (Hz, s, m) in the JSON
+//! except for the cell sizes, which carry their unit in the key
+//! (`cell_r_mm`).
+use lathe_solver::{Mode, RunOutput};
+use serde_json::{json, Value};
+
+/// Every mode of every run, sorted by frequency (then m).
+pub fn all_modes(runs: &[RunOutput]) -> Vec<Mode> {
+    let mut v: Vec<Mode> = runs.iter().flat_map(|r| r.modes.iter().cloned()).collect();
+    v.sort_by(|a, b| a.freq_hz.total_cmp(&b.freq_hz).then(a.m.cmp(&b.m)));
+    v
+}
+
+/// Q as printed: a number, with "≥" when it is a lower bound.
+pub fn q_text(m: &Mode) -> String {
+    if m.q_is_lower_bound {
+        format!("≥ {:.3e}", m.q)
+    } else if m.q >= 1e5 {
+        format!("{:.3e}", m.q)
+    } else {
+        format!("{:.2}", m.q)
+    }
+}
+
+/// The mode table as text.
+pub fn table(runs: &[RunOutput]) -> String {
+    let mut s = String::new();
+    s.push_str("  m      f (GHz)            Q      error   amplitude\n");
+    for m in all_modes(runs) {
+        s.push_str(&format!(
+            "{:>3}  {:>11.6}  {:>11}  {:>9.1e}  {:>10.3}\n",
+            m.m,
+            m.freq_hz / 1e9,
+            q_text(&m),
+            m.error,
+            m.amplitude
+        ));
+    }
+    s
+}
+
+/// The JSON document: `{"modes": [...], "runs": [...]}`.
+pub fn json(runs: &[RunOutput]) -> Value {
+    let modes: Vec<Value> = all_modes(runs)
+        .iter()
+        .map(|m| {
+            json!({
+                "m": m.m,
+                "freq_hz": m.freq_hz,
+                "q": m.q,
+                "q_is_lower_bound": m.q_is_lower_bound,
+                "decay_per_s": m.decay,
+                "error": m.error,
+                "amplitude": m.amplitude,
+                "probes": m.probes,
+            })
+        })
+        .collect();
+    let runs: Vec<Value> = runs
+        .iter()
+        .map(|r| {
+            let p = &r.report;
+            json!({
+                "m": p.m,
+                "nr": p.nr,
+                "nz": p.nz,
+                "cell_r_mm": p.dr * 1e3,
+                "cell_z_mm": p.dz * 1e3,
+                "dt_s": p.dt,
+                "dt_limit_s": p.dt_max,
+                "steps": p.steps,
+                "cell_updates": p.cell_updates,
+                "seconds": p.seconds,
+                "samples": p.samples,
+                "sample_dt_s": p.sample_dt,
+                "checks": p.checks,
+                "converged": p.converged,
+            })
+        })
+        .collect();
+    json!({ "modes": modes, "runs": runs })
+}
+
+/// The plan of every run of `scenario`, as text (what `lathe check` prints).
+pub fn plan_text(
+    scenario: &crate::scenario::Scenario,
+    problem: &lathe_solver::Problem,
+) -> Result<String, lathe_solver::SolverError> {
+    use std::fmt::Write;
+    let g = &problem.materials.grid;
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "grid        {} × {} cells (r × z), cell {:.4} × {:.4} mm, region r ≤ {:.3} mm, {:.3} ≤ z ≤ {:.3} mm",
+        g.nr,
+        g.nz,
+        g.dr * 1e3,
+        g.dz * 1e3,
+        g.radius() * 1e3,
+        g.z0 * 1e3,
+        g.z_top() * 1e3
+    );
+    let w = &problem.walls;
+    let _ = writeln!(
+        s,
+        "walls       outer {}, bottom {}, top {}",
+        w.outer.name(),
+        w.bottom.name(),
+        w.top.name()
+    );
+    let _ = writeln!(
+        s,
+        "band        {:.4} – {:.4} GHz, densest ε_r {:.3}",
+        problem.f_min / 1e9,
+        problem.f_max / 1e9,
+        problem.materials.max_eps_r()
+    );
+    for warning in scenario.warnings(g) {
+        let _ = writeln!(s, "warning     {warning}");
+    }
+    for &m in &scenario.m {
+        let p = lathe_solver::plan(problem, m)?;
+        let _ = writeln!(s, "run m = {m}");
+        let _ = writeln!(
+            s,
+            "  time step   {:.4e} s = {:.3} × limit {:.4e} s (Lanczos, {} iterations; 2D vacuum Courant limit {:.4e} s)",
+            p.dt,
+            p.dt / p.stability.dt_max,
+            p.stability.dt_max,
+            p.stability.iterations,
+            p.stability.dt_cartesian
+        );
+        let _ = writeln!(
+            s,
+            "  pulse       centre {:.4} GHz, σ_f {:.4} GHz, {} steps",
+            p.pulse.f_center / 1e9,
+            p.pulse.sigma_f / 1e9,
+            p.source_steps
+        );
+        let _ = writeln!(
+            s,
+            "  sampling    every {} steps ({:.4e} s), first check after {} samples, at most {} samples",
+            p.decimation, p.sample_dt, p.first_check, p.max_samples
+        );
+        let _ = writeln!(
+            s,
+            "  length      at most {} steps = {:.3e} cell updates",
+            p.max_steps,
+            p.max_steps as f64 * g.cells() as f64
+        );
+        for (kind, pts) in [("source", &p.sources), ("probe", &p.probes)] {
+            for pt in pts.iter() {
+                let comps: Vec<&str> = pt.taps.iter().map(|t| t.component.name()).collect();
+                let _ = writeln!(
+                    s,
+                    "  {kind:<7}     r = {:.3} mm, z = {:.3} mm ({})",
+                    pt.r * 1e3,
+                    pt.z * 1e3,
+                    comps.join(" ")
+                );
+            }
+        }
+        let _ = writeln!(s, "  memory      {:.1} MiB", p.memory_bytes as f64 / 1048576.0);
+    }
+    Ok(s)
+}

@@ -1,0 +1,683 @@
+//! Scenario files: the TOML a user writes, read into a checked
+//! [`Scenario`] and turned into the solver's [`Problem`].
+//!
+//! Lengths are in millimetres and frequencies in GHz in the file; everything
+//! is SI once read. Every mistake is reported as a [`ScenarioError`] that
+//! names the file, the key (with the body index), the value found, what is
+//! allowed, and a hint where one is obvious. Unknown keys are errors, with a
+//! "did you mean" when a known key is close.
+//!
+//! ```toml
+//! [region]                 # the simulated (r, z) half-plane, mm
+//! radius = 10.0
+//! z_min = 0.0
+//! z_max = 20.0
+//! cell = 0.25              # optional; else from cells_per_wavelength
+//! cells_per_wavelength = 24   # optional (default 24) in the densest material at f_max
+//!
+//! [boundary]
+//! outer = "pec"            # r = radius
+//! bottom = "pec"           # "pec" | "pmc"
+//! top = "pec"              # "pec" | "pmc"
+//!
+//! [[body]]                 # later bodies override earlier ones
+//! shape = "cylinder"       # "cylinder" (radius) or "ring" (inner_radius, outer_radius)
+//! radius = 4.0
+//! height = 3.0
+//! base = 0.0
+//! eps_r = 9.8              # or conductor = "pec"
+//!
+//! [search]
+//! m = [0, 1, 2]
+//! f_min = 5.0              # GHz
+//! f_max = 25.0
+//! max_periods = 4000       # optional: longest ring-down, in periods of f_min
+//! ```
+use lathe_mesh::{fill, Body, FillOptions, Grid, Material, Shape};
+use lathe_solver::consts::C0;
+use lathe_solver::{OuterWall, Problem, RunOptions, Walls, ZWall};
+use std::fmt;
+use toml::{Table, Value};
+
+/// Default cells per wavelength in the densest material at f_max. With the
+/// leapfrog's time dispersion removed (see `lathe_solver::modes`), the
+/// remaining error of a Yee grid is the spatial one, at most (kΔ)²/24 for
+/// propagation along a grid axis: 0.29 % at 24 cells per wavelength, and far
+/// less for the modes below f_max.
+pub const DEFAULT_CELLS_PER_WAVELENGTH: f64 = 24.0;
+
+/// A mistake in a scenario, quoting the file, the key and the value.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScenarioError {
+    /// The file (or "<scenario>").
+    pub file: String,
+    /// The key, e.g. `body[2].radius`; empty for file-level problems.
+    pub key: String,
+    /// What is wrong, quoting the value.
+    pub message: String,
+    /// A fix, when one is obvious.
+    pub hint: Option<String>,
+}
+
+impl fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.key.is_empty() {
+            write!(f, "{}: {}", self.file, self.message)?;
+        } else {
+            write!(f, "{}: {}: {}", self.file, self.key, self.message)?;
+        }
+        if let Some(h) = &self.hint {
+            write!(f, "\n  hint: {h}")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+/// A read and checked scenario, in SI units.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scenario {
+    /// Outer radius, m.
+    pub radius: f64,
+    /// Bottom plane, m.
+    pub z_min: f64,
+    /// Top plane, m.
+    pub z_max: f64,
+    /// Grid step asked for, m (`None`: from cells per wavelength).
+    pub cell: Option<f64>,
+    /// Cells per wavelength in the densest material at f_max.
+    pub cells_per_wavelength: f64,
+    /// Walls.
+    pub walls: Walls,
+    /// Bodies, in file order.
+    pub bodies: Vec<Body>,
+    /// Azimuthal orders to search.
+    pub m: Vec<u32>,
+    /// Band, Hz.
+    pub f_min: f64,
+    /// Band, Hz.
+    pub f_max: f64,
+    /// Longest ring-down in periods of f_min.
+    pub max_periods: Option<f64>,
+}
+
+struct Reader<'a> {
+    file: &'a str,
+}
+
+impl Reader<'_> {
+    fn err(&self, key: &str, message: String, hint: Option<String>) -> ScenarioError {
+        ScenarioError {
+            file: self.file.to_string(),
+            key: key.to_string(),
+            message,
+            hint,
+        }
+    }
+
+    fn check_keys(&self, t: &Table, prefix: &str, known: &[&str]) -> Result<(), ScenarioError> {
+        for k in t.keys() {
+            if !known.contains(&k.as_str()) {
+                let best = known
+                    .iter()
+                    .map(|c| (edit_distance(k, c), *c))
+                    .min()
+                    .filter(|(d, _)| *d <= 3.max(k.len() / 3));
+                let hint = match best {
+                    Some((_, c)) => Some(format!("did you mean `{c}`?")),
+                    None => Some(format!("known keys here: {}", known.join(", "))),
+                };
+                let key = if prefix.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{prefix}.{k}")
+                };
+                return Err(self.err(&key, "unknown key".into(), hint));
+            }
+        }
+        Ok(())
+    }
+
+    fn table<'t>(&self, t: &'t Table, key: &str) -> Result<Option<&'t Table>, ScenarioError> {
+        match t.get(key) {
+            None => Ok(None),
+            Some(Value::Table(x)) => Ok(Some(x)),
+            Some(v) => Err(self.err(
+                key,
+                format!("expected a table `[{key}]`, found {}", describe(v)),
+                None,
+            )),
+        }
+    }
+
+    fn number(&self, t: &Table, key: &str, full: &str) -> Result<Option<f64>, ScenarioError> {
+        match t.get(key) {
+            None => Ok(None),
+            Some(Value::Float(x)) => {
+                if x.is_finite() {
+                    Ok(Some(*x))
+                } else {
+                    Err(self.err(full, format!("{x} is not a finite number"), None))
+                }
+            }
+            Some(Value::Integer(i)) => Ok(Some(*i as f64)),
+            Some(v) => Err(self.err(
+                full,
+                format!("expected a number, found {}", describe(v)),
+                matches!(v, Value::String(_)).then(|| "write numbers without quotes".to_string()),
+            )),
+        }
+    }
+
+    fn required(&self, t: &Table, key: &str, full: &str, what: &str) -> Result<f64, ScenarioError> {
+        self.number(t, key, full)?
+            .ok_or_else(|| self.err(full, format!("missing (the {what})"), None))
+    }
+
+    fn positive(&self, v: f64, full: &str, unit: &str) -> Result<f64, ScenarioError> {
+        if v > 0.0 {
+            Ok(v)
+        } else {
+            Err(self.err(
+                full,
+                format!("must be positive, got {v} {unit}"),
+                None,
+            ))
+        }
+    }
+
+    fn string<'t>(&self, t: &'t Table, key: &str, full: &str) -> Result<Option<&'t str>, ScenarioError> {
+        match t.get(key) {
+            None => Ok(None),
+            Some(Value::String(s)) => Ok(Some(s.as_str())),
+            Some(v) => Err(self.err(full, format!("expected a string, found {}", describe(v)), None)),
+        }
+    }
+}
+
+fn describe(v: &Value) -> String {
+    match v {
+        Value::String(s) => format!("the string \"{s}\""),
+        Value::Integer(i) => format!("the integer {i}"),
+        Value::Float(x) => format!("the number {x}"),
+        Value::Boolean(b) => format!("the boolean {b}"),
+        Value::Datetime(d) => format!("the date {d}"),
+        Value::Array(_) => "an array".into(),
+        Value::Table(_) => "a table".into(),
+    }
+}
+
+/// Levenshtein distance, for "did you mean".
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut prev: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut cur = vec![i + 1];
+        for (j, cb) in b.iter().enumerate() {
+            let sub = prev[j] + usize::from(ca != *cb);
+            cur.push(sub.min(prev[j + 1] + 1).min(cur[j] + 1));
+        }
+        prev = cur;
+    }
+    prev[b.len()]
+}
+
+const MM: f64 = 1e-3;
+const GHZ: f64 = 1e9;
+
+impl Scenario {
+    /// Reads a scenario from TOML text; `file` names it in messages.
+    pub fn parse(text: &str, file: &str) -> Result<Scenario, ScenarioError> {
+        let rd = Reader { file };
+        let root: Table = text.parse::<Table>().map_err(|e| {
+            let msg = e.to_string();
+            rd.err("", format!("not valid TOML: {}", msg.trim()), None)
+        })?;
+        rd.check_keys(&root, "", &["region", "boundary", "body", "search"])?;
+
+        // [region]
+        let region = rd.table(&root, "region")?.ok_or_else(|| {
+            rd.err(
+                "region",
+                "missing table [region]".into(),
+                Some("add [region] with radius, z_min, z_max (mm)".into()),
+            )
+        })?;
+        rd.check_keys(
+            region,
+            "region",
+            &["radius", "z_min", "z_max", "cell", "cells_per_wavelength"],
+        )?;
+        let radius = rd.required(region, "radius", "region.radius", "outer radius in mm")?;
+        let radius = rd.positive(radius, "region.radius", "mm")?;
+        let z_min = rd.required(region, "z_min", "region.z_min", "bottom plane in mm")?;
+        let z_max = rd.required(region, "z_max", "region.z_max", "top plane in mm")?;
+        if z_max <= z_min {
+            return Err(rd.err(
+                "region.z_max",
+                format!("must be above region.z_min = {z_min} mm, got {z_max} mm"),
+                None,
+            ));
+        }
+        let cell = match rd.number(region, "cell", "region.cell")? {
+            Some(c) => Some(rd.positive(c, "region.cell", "mm")? * MM),
+            None => None,
+        };
+        let cpw = match rd.number(region, "cells_per_wavelength", "region.cells_per_wavelength")? {
+            Some(c) if c >= 4.0 => c,
+            Some(c) => {
+                return Err(rd.err(
+                    "region.cells_per_wavelength",
+                    format!("must be at least 4, got {c}"),
+                    Some("20 to 40 is usual; accuracy grows as its square".into()),
+                ))
+            }
+            None => DEFAULT_CELLS_PER_WAVELENGTH,
+        };
+
+        // [boundary]
+        let walls = match rd.table(&root, "boundary")? {
+            None => Walls {
+                bottom: ZWall::Pec,
+                top: ZWall::Pec,
+                outer: OuterWall::Pec,
+            },
+            Some(b) => {
+                rd.check_keys(b, "boundary", &["outer", "bottom", "top"])?;
+                let zwall = |key: &str| -> Result<ZWall, ScenarioError> {
+                    let full = format!("boundary.{key}");
+                    match rd.string(b, key, &full)? {
+                        None | Some("pec") => Ok(ZWall::Pec),
+                        Some("pmc") => Ok(ZWall::Pmc),
+                        Some(other) => Err(rd.err(
+                            &full,
+                            format!("unknown wall \"{other}\"; allowed: \"pec\", \"pmc\""),
+                            (other.eq_ignore_ascii_case("pec") || other.eq_ignore_ascii_case("pmc"))
+                                .then(|| format!("write it in lower case: \"{}\"", other.to_lowercase())),
+                        )),
+                    }
+                };
+                let outer = match rd.string(b, "outer", "boundary.outer")? {
+                    None | Some("pec") => OuterWall::Pec,
+                    Some(other) => {
+                        return Err(rd.err(
+                            "boundary.outer",
+                            format!("unknown wall \"{other}\"; allowed in this version: \"pec\""),
+                            None,
+                        ))
+                    }
+                };
+                Walls {
+                    bottom: zwall("bottom")?,
+                    top: zwall("top")?,
+                    outer,
+                }
+            }
+        };
+
+        // [[body]]
+        let mut bodies = Vec::new();
+        match root.get("body") {
+            None => {}
+            Some(Value::Array(items)) => {
+                for (k, item) in items.iter().enumerate() {
+                    let Value::Table(t) = item else {
+                        return Err(rd.err(
+                            &format!("body[{k}]"),
+                            format!("expected a table, found {}", describe(item)),
+                            Some("write each body as a [[body]] table".into()),
+                        ));
+                    };
+                    bodies.push(read_body(&rd, t, k, radius, z_min, z_max)?);
+                }
+            }
+            Some(v) => {
+                return Err(rd.err(
+                    "body",
+                    format!("expected an array of tables [[body]], found {}", describe(v)),
+                    Some("write [[body]] (double brackets) for each body".into()),
+                ))
+            }
+        }
+
+        // [search]
+        let search = rd.table(&root, "search")?.ok_or_else(|| {
+            rd.err(
+                "search",
+                "missing table [search]".into(),
+                Some("add [search] with m = [..], f_min and f_max (GHz)".into()),
+            )
+        })?;
+        rd.check_keys(search, "search", &["m", "f_min", "f_max", "max_periods"])?;
+        let m = match search.get("m") {
+            None => vec![0, 1, 2],
+            Some(v) => read_orders(&rd, v, "search.m")?,
+        };
+        let f_min = rd.required(search, "f_min", "search.f_min", "lower band edge in GHz")?;
+        let f_max = rd.required(search, "f_max", "search.f_max", "upper band edge in GHz")?;
+        let f_min = rd.positive(f_min, "search.f_min", "GHz")?;
+        if f_max <= f_min {
+            return Err(rd.err(
+                "search.f_max",
+                format!("must be above search.f_min = {f_min} GHz, got {f_max} GHz"),
+                None,
+            ));
+        }
+        let max_periods = match rd.number(search, "max_periods", "search.max_periods")? {
+            Some(p) if p >= 50.0 => Some(p),
+            Some(p) => {
+                return Err(rd.err(
+                    "search.max_periods",
+                    format!("must be at least 50, got {p}"),
+                    None,
+                ))
+            }
+            None => None,
+        };
+        Ok(Scenario {
+            radius: radius * MM,
+            z_min: z_min * MM,
+            z_max: z_max * MM,
+            cell,
+            cells_per_wavelength: cpw,
+            walls,
+            bodies,
+            m,
+            f_min: f_min * GHZ,
+            f_max: f_max * GHZ,
+            max_periods,
+        })
+    }
+
+    /// Largest ε_r of the dielectric bodies (1 for none).
+    pub fn max_eps_r(&self) -> f64 {
+        self.bodies
+            .iter()
+            .filter_map(|b| match b.material {
+                Material::Dielectric { eps_r, .. } => Some(eps_r),
+                Material::Pec => None,
+            })
+            .fold(1.0, f64::max)
+    }
+
+    /// The grid step: `cell` if given, else the wavelength in the densest
+    /// material at f_max over `cells_per_wavelength`. Metres.
+    pub fn cell_size(&self) -> f64 {
+        self.cell.unwrap_or_else(|| {
+            C0 / (self.f_max * self.max_eps_r().sqrt()) / self.cells_per_wavelength
+        })
+    }
+
+    /// The grid.
+    pub fn grid(&self) -> Result<Grid, ScenarioError> {
+        Grid::new(self.radius, self.z_min, self.z_max, self.cell_size()).map_err(|e| ScenarioError {
+            file: String::new(),
+            key: "region.cell".into(),
+            message: e.to_string(),
+            hint: Some("use a larger cell or fewer cells_per_wavelength".into()),
+        })
+    }
+
+    /// Warnings about the plan (resolution of bodies), for the plan printout.
+    pub fn warnings(&self, grid: &Grid) -> Vec<String> {
+        let mut out = Vec::new();
+        let cpw = C0 / (self.f_max * self.max_eps_r().sqrt()) / grid.dr.max(grid.dz);
+        if cpw < 15.0 {
+            out.push(format!(
+                "only {cpw:.1} cells per wavelength in the densest material at f_max; 20 or more is recommended"
+            ));
+        }
+        for (k, b) in self.bodies.iter().enumerate() {
+            let (r0, r1, z0, z1) = b.shape.bounds();
+            if (r1 - r0) < grid.dr || (z1 - z0) < grid.dz {
+                out.push(format!(
+                    "body[{k}] ({}) is thinner than one cell ({:.4} × {:.4} mm cells)",
+                    b.shape.kind(),
+                    grid.dr / MM,
+                    grid.dz / MM
+                ));
+            }
+        }
+        out
+    }
+
+    /// The solver's problem for this scenario.
+    pub fn problem(&self) -> Result<Problem, ScenarioError> {
+        let grid = self.grid()?;
+        let materials = fill(&grid, &self.bodies, FillOptions::default());
+        let mut options = RunOptions::default();
+        if let Some(p) = self.max_periods {
+            options.max_periods = p;
+        }
+        Ok(Problem {
+            materials,
+            walls: self.walls,
+            f_min: self.f_min,
+            f_max: self.f_max,
+            options,
+        })
+    }
+}
+
+fn read_orders(rd: &Reader, v: &Value, key: &str) -> Result<Vec<u32>, ScenarioError> {
+    let one = |x: &Value| -> Result<u32, ScenarioError> {
+        match x {
+            Value::Integer(i) if (0..=64).contains(i) => Ok(*i as u32),
+            Value::Integer(i) => Err(rd.err(
+                key,
+                format!("azimuthal order {i} is out of range; allowed 0 … 64"),
+                None,
+            )),
+            other => Err(rd.err(
+                key,
+                format!("azimuthal orders are whole numbers ≥ 0, found {}", describe(other)),
+                None,
+            )),
+        }
+    };
+    let mut out = match v {
+        Value::Array(a) if a.is_empty() => {
+            return Err(rd.err(key, "the list is empty".into(), Some("e.g. m = [0, 1, 2]".into())))
+        }
+        Value::Array(a) => a.iter().map(one).collect::<Result<Vec<_>, _>>()?,
+        other => vec![one(other)?],
+    };
+    out.sort_unstable();
+    out.dedup();
+    Ok(out)
+}
+
+fn read_body(
+    rd: &Reader,
+    t: &Table,
+    k: usize,
+    region_radius: f64,
+    z_min: f64,
+    z_max: f64,
+) -> Result<Body, ScenarioError> {
+    let p = format!("body[{k}]");
+    let full = |key: &str| format!("{p}.{key}");
+    let shape_name = rd.string(t, "shape", &full("shape"))?.ok_or_else(|| {
+        rd.err(
+            &full("shape"),
+            "missing (\"cylinder\" or \"ring\")".into(),
+            None,
+        )
+    })?;
+    let common = ["shape", "height", "base", "eps_r", "loss_tangent", "conductor"];
+    let extra: &[&str] = match shape_name {
+        "cylinder" => &["radius"],
+        "ring" => &["inner_radius", "outer_radius"],
+        other => {
+            return Err(rd.err(
+                &full("shape"),
+                format!("unknown shape \"{other}\"; allowed: \"cylinder\", \"ring\""),
+                None,
+            ))
+        }
+    };
+    let known: Vec<&str> = common.iter().chain(extra).copied().collect();
+    rd.check_keys(t, &p, &known)?;
+    let len = |key: &str, what: &str| -> Result<f64, ScenarioError> {
+        let v = rd.required(t, key, &full(key), what)?;
+        rd.positive(v, &full(key), "mm")
+    };
+    let height = len("height", "height in mm")?;
+    let base = rd.required(t, "base", &full("base"), "z of the bottom face in mm")?;
+    let shape = match shape_name {
+        "cylinder" => Shape::Cylinder {
+            radius: len("radius", "radius in mm")? * MM,
+            height: height * MM,
+            base: base * MM,
+        },
+        _ => {
+            let inner = rd.required(t, "inner_radius", &full("inner_radius"), "inner radius in mm")?;
+            if inner < 0.0 {
+                return Err(rd.err(
+                    &full("inner_radius"),
+                    format!("must be ≥ 0, got {inner} mm"),
+                    None,
+                ));
+            }
+            let outer = len("outer_radius", "outer radius in mm")?;
+            if outer <= inner {
+                return Err(rd.err(
+                    &full("outer_radius"),
+                    format!("must exceed inner_radius = {inner} mm, got {outer} mm"),
+                    None,
+                ));
+            }
+            Shape::Ring {
+                inner_radius: inner * MM,
+                outer_radius: outer * MM,
+                height: height * MM,
+                base: base * MM,
+            }
+        }
+    };
+    let (r0, _r1, b0, b1) = shape.bounds();
+    if r0 >= region_radius || b0 >= z_max * MM || b1 <= z_min * MM {
+        return Err(rd.err(
+            &p,
+            format!(
+                "the {} (r from {} to {} mm, z from {} to {} mm) lies outside the region",
+                shape_name,
+                r0 / MM,
+                shape.bounds().1 / MM,
+                b0 / MM,
+                b1 / MM
+            ),
+            None,
+        ));
+    }
+    let eps = rd.number(t, "eps_r", &full("eps_r"))?;
+    let tan_d = rd.number(t, "loss_tangent", &full("loss_tangent"))?;
+    let conductor = rd.string(t, "conductor", &full("conductor"))?;
+    let material = match (eps, conductor) {
+        (Some(_), Some(_)) => {
+            return Err(rd.err(
+                &p,
+                "has both eps_r and conductor; a body is either dielectric or metal".into(),
+                None,
+            ))
+        }
+        (None, Some("pec")) => Material::Pec,
+        (None, Some(other)) => {
+            return Err(rd.err(
+                &full("conductor"),
+                format!("unknown conductor \"{other}\"; allowed: \"pec\""),
+                None,
+            ))
+        }
+        (Some(e), None) => {
+            if e < 1.0 {
+                return Err(rd.err(
+                    &full("eps_r"),
+                    format!("relative permittivity must be ≥ 1, got {e}"),
+                    None,
+                ));
+            }
+            let tan_d = tan_d.unwrap_or(0.0);
+            if !(0.0..1.0).contains(&tan_d) {
+                return Err(rd.err(
+                    &full("loss_tangent"),
+                    format!("must lie in [0, 1), got {tan_d}"),
+                    None,
+                ));
+            }
+            Material::Dielectric {
+                eps_r: e,
+                loss_tangent: tan_d,
+            }
+        }
+        (None, None) => {
+            return Err(rd.err(
+                &p,
+                "has neither eps_r nor conductor".into(),
+                Some("add eps_r = … for a dielectric or conductor = \"pec\" for metal".into()),
+            ))
+        }
+    };
+    Ok(Body { shape, material })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const GOOD: &str = r#"
+[region]
+radius = 10.0
+z_min = 0.0
+z_max = 20.0
+cell = 0.25
+[boundary]
+outer = "pec"
+bottom = "pec"
+top = "pmc"
+[[body]]
+shape = "cylinder"
+radius = 10.0
+height = 4.0
+base = 0.0
+eps_r = 4.0
+[search]
+m = [2, 0, 1]
+f_min = 5.0
+f_max = 25.0
+"#;
+
+    #[test]
+    fn reads_the_documented_example() {
+        let s = Scenario::parse(GOOD, "good.toml").unwrap();
+        assert_eq!(s.m, vec![0, 1, 2]);
+        assert_eq!(s.walls.top, ZWall::Pmc);
+        assert!((s.f_max - 25e9).abs() < 1.0);
+        assert!((s.cell_size() - 0.25e-3).abs() < 1e-15);
+        let g = s.grid().unwrap();
+        assert_eq!((g.nr, g.nz), (40, 80));
+    }
+
+    fn err(text: &str) -> ScenarioError {
+        Scenario::parse(text, "t.toml").unwrap_err()
+    }
+
+    #[test]
+    fn mistakes_name_key_and_value() {
+        let e = err(&GOOD.replace("radius = 10.0\nz_min", "radus = 10.0\nz_min"));
+        assert_eq!(e.key, "region.radus");
+        assert!(e.hint.unwrap().contains("radius"));
+        let e = err(&GOOD.replace("eps_r = 4.0", "eps_r = 0.5"));
+        assert_eq!(e.key, "body[0].eps_r");
+        assert!(e.message.contains("0.5"));
+        let e = err(&GOOD.replace("f_max = 25.0", "f_max = 4.0"));
+        assert_eq!(e.key, "search.f_max");
+        let e = err(&GOOD.replace("m = [2, 0, 1]", "m = [1, -1]"));
+        assert!(e.message.contains("-1"));
+        let e = err(&GOOD.replace("top = \"pmc\"", "top = \"PMC\""));
+        assert!(e.hint.unwrap().contains("\"pmc\""));
+        let e = err("[region\nradius=1");
+        assert!(e.message.contains("not valid TOML"));
+    }
+}
