@@ -43,6 +43,7 @@
 #![deny(missing_docs)]
 
 pub mod output;
+pub mod reference;
 pub mod scenario;
 
 pub use lathe_mesh as mesh;

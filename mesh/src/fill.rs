@@ -17,10 +17,10 @@
 //! then r-weighted arithmetic over r. `Ephi` is tangential to every
 //! interface of a body of revolution: r-weighted arithmetic over the cell.
 //! For interfaces normal to r or z — every face of a cylinder or ring, on or
-//! off a grid line — this is the exact layered-medium average, so such
-//! structures converge at second order. The means are taken by the midpoint
-//! rule on `samples × samples` points, which is exact for interfaces on grid
-//! lines when `samples` is even (the grid lines then fall on sample edges).
+//! off a grid line — this is the exact layered-medium average. The means are
+//! integrated exactly over the sub-rectangles that the bodies' edges cut the
+//! dual cell into (every shape of this release is a rectangle in (r, z)), so
+//! a face's position is represented to round-off, not snapped to a sample.
 //!
 //! Metal is staircased: an electric node on or inside a PEC body is held at
 //! zero; metal samples in a free node's dual cell are left out of its mean.
@@ -155,12 +155,15 @@ fn fill_component(grid: &Grid, bodies: &[Body], c: Component, samples: usize) ->
     NodeMaterial { eps_r, pec }
 }
 
-/// The directional mean of ε over one dual cell (see the module docs).
+/// The directional mean of ε over one dual cell (see the module docs),
+/// integrated exactly: every body of this release is a rectangle of the
+/// (r, z) plane, so ε is constant on the sub-rectangles cut by the bodies'
+/// edges, and the means are finite sums over them.
 fn cell_average(
     bodies: &[Body],
     c: Component,
     (r0, r1, z0, z1): (f64, f64, f64, f64),
-    n: usize,
+    _samples: usize,
 ) -> f64 {
     // Fast path: no surface crosses the cell, so ε is uniform on it.
     let mut uniform = true;
@@ -182,47 +185,83 @@ fn cell_average(
     if uniform {
         return if metal { 1.0 } else { eps };
     }
-    let ra = |a: usize| r0 + (a as f64 + 0.5) * (r1 - r0) / n as f64;
-    let zb = |b: usize| z0 + (b as f64 + 0.5) * (z1 - z0) / n as f64;
-    // `outer` runs across the component, `inner` along it: harmonic mean
-    // along, then weighted arithmetic mean across.
-    let (mut sum_w, mut sum) = (0.0, 0.0);
-    for outer in 0..n {
-        let (mut cnt, mut inv, mut arith, mut w_in) = (0usize, 0.0, 0.0, 0.0);
-        for inner in 0..n {
-            let (r, z) = match c {
-                Component::Er => (ra(inner), zb(outer)),
-                _ => (ra(outer), zb(inner)),
-            };
-            if let Some(e) = material_at(bodies, r, z) {
-                cnt += 1;
-                inv += 1.0 / e;
-                // Ephi: arithmetic in both directions, weight r.
-                arith += e * r;
-                w_in += r;
+    let cuts = |lo: f64, hi: f64, radial: bool| -> Vec<f64> {
+        let mut v = vec![lo, hi];
+        for b in bodies {
+            let (a0, a1, b0, b1) = b.shape.bounds();
+            let (x0, x1) = if radial { (a0, a1) } else { (b0, b1) };
+            for x in [x0, x1] {
+                if x > lo && x < hi {
+                    v.push(x);
+                }
             }
         }
-        if cnt == 0 {
-            continue;
+        v.sort_by(f64::total_cmp);
+        v.dedup();
+        v
+    };
+    let rs = cuts(r0, r1, true);
+    let zs = cuts(z0, z1, false);
+    // ε on sub-rectangle (a, b), None for metal.
+    let eps_at = |a: usize, b: usize| {
+        material_at(
+            bodies,
+            0.5 * (rs[a] + rs[a + 1]),
+            0.5 * (zs[b] + zs[b + 1]),
+        )
+    };
+    let area_r = |a: usize| 0.5 * (rs[a + 1] * rs[a + 1] - rs[a] * rs[a]); // ∫ r dr
+    let len_r = |a: usize| rs[a + 1] - rs[a];
+    let len_z = |b: usize| zs[b + 1] - zs[b];
+    let (mut num, mut den) = (0.0, 0.0);
+    match c {
+        Component::Er => {
+            // Harmonic along r within each z strip, arithmetic over strips.
+            for b in 0..zs.len() - 1 {
+                let (mut l, mut inv) = (0.0, 0.0);
+                for a in 0..rs.len() - 1 {
+                    if let Some(e) = eps_at(a, b) {
+                        l += len_r(a);
+                        inv += len_r(a) / e;
+                    }
+                }
+                if l > 0.0 {
+                    num += len_z(b) * l / inv;
+                    den += len_z(b);
+                }
+            }
         }
-        match c {
-            Component::Er => {
-                sum += cnt as f64 / inv;
-                sum_w += 1.0;
+        Component::Ez => {
+            // Harmonic along z within each r strip, r-weighted arithmetic
+            // over strips.
+            for a in 0..rs.len() - 1 {
+                let (mut l, mut inv) = (0.0, 0.0);
+                for b in 0..zs.len() - 1 {
+                    if let Some(e) = eps_at(a, b) {
+                        l += len_z(b);
+                        inv += len_z(b) / e;
+                    }
+                }
+                if l > 0.0 {
+                    num += area_r(a) * l / inv;
+                    den += area_r(a);
+                }
             }
-            Component::Ez => {
-                let w = ra(outer);
-                sum += w * cnt as f64 / inv;
-                sum_w += w;
-            }
-            _ => {
-                sum += arith;
-                sum_w += w_in;
+        }
+        _ => {
+            for a in 0..rs.len() - 1 {
+                for b in 0..zs.len() - 1 {
+                    if let Some(e) = eps_at(a, b) {
+                        let w = area_r(a) * len_z(b);
+                        num += w * e;
+                        den += w;
+                    }
+                }
             }
         }
     }
-    if sum_w > 0.0 {
-        sum / sum_w
+    if den > 0.0 {
+        num / den
     } else {
         1.0
     }

@@ -40,6 +40,8 @@ pub struct Coefficients {
     pub hz_out: Vec<f64>,
     /// r_i/(r_{i+½} Δr) for H_z rows (0 at i = 0: r E_φ vanishes on the axis).
     pub hz_in: Vec<f64>,
+    /// Update rows in parallel (for large grids; see [`crate::kernel`]).
+    pub row_parallel: bool,
     /// Wall at z_min.
     pub bottom: ZWall,
     /// Wall at z_max.
@@ -112,6 +114,7 @@ impl Coefficients {
                 .collect(),
             hz_out: (0..nr).map(|i| r_int(i + 1) / (r_half(i) * g.dr)).collect(),
             hz_in: (0..nr).map(|i| r_int(i) / (r_half(i) * g.dr)).collect(),
+            row_parallel: false,
             bottom: walls.bottom,
             top: walls.top,
         }

@@ -42,6 +42,12 @@
 //! The off-axis H_z(½) update uses the full annulus `0 … Δr` (its inner
 //! coefficient is zero), so no axis value is needed there either.
 //!
+//! # Threads
+//! Rows are independent within each half step, so large grids are updated
+//! row-parallel (rayon) when [`Coefficients::row_parallel`] is set; every
+//! entry is computed by the same expression on any thread, so results are
+//! bitwise identical for any thread count.
+//!
 //! # Walls
 //! PEC walls hold their tangential E nodes at zero (`cb = 0`, set in
 //! [`crate::coefficients`]); a PMC z plane uses the odd image of tangential
@@ -49,99 +55,138 @@
 use crate::boundary::ZWall;
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
+use rayon::prelude::*;
+
+/// Applies `f(i, row)` to rows `lo..hi` of `data` (rows of `len` entries),
+/// in parallel when `par` is set. Each entry is computed by the same
+/// arithmetic whichever thread does it, so results do not depend on the
+/// thread count.
+fn rows<F>(data: &mut [f64], len: usize, lo: usize, hi: usize, par: bool, f: F)
+where
+    F: Fn(usize, &mut [f64]) + Sync + Send,
+{
+    if hi <= lo {
+        return;
+    }
+    let sub = &mut data[lo * len..hi * len];
+    if par {
+        sub.par_chunks_mut(len)
+            .with_min_len(4)
+            .enumerate()
+            .for_each(|(k, row)| f(lo + k, row));
+    } else {
+        sub.chunks_mut(len)
+            .enumerate()
+            .for_each(|(k, row)| f(lo + k, row));
+    }
+}
 
 /// Advances H by one step from E (Faraday's law).
 pub fn update_h(f: &mut Fields, c: &Coefficients) {
     let (nr, nz) = (c.nr, c.nz);
-    let (ch, idr, idz) = (c.ch, c.inv_dr, c.inv_dz);
+    let (ch, idr, idz, par) = (c.ch, c.inv_dr, c.inv_dz, c.row_parallel);
     let nj1 = nz + 1;
+    let Fields {
+        er,
+        ephi,
+        ez,
+        hr,
+        hphi,
+        hz,
+        ..
+    } = f;
+    let (er, ephi, ez) = (&er[..], &ephi[..], &ez[..]);
     // μ ∂t h_r = (m/r) e_z + ∂z e_φ, rows 1..nr (the axis row is derived,
     // the outer-wall row is normal H on a PEC wall and stays zero).
-    for i in 1..nr {
+    rows(hr, nz, 1, nr, par, |i, hr| {
         let mr = c.m_over_r_int[i];
-        let hr = &mut f.hr[i * nz..(i + 1) * nz];
-        let ez = &f.ez[i * nz..(i + 1) * nz];
-        let ep = &f.ephi[i * nj1..(i + 1) * nj1];
+        let ez = &ez[i * nz..(i + 1) * nz];
+        let ep = &ephi[i * nj1..(i + 1) * nj1];
         for j in 0..nz {
             hr[j] += ch * (mr * ez[j] + (ep[j + 1] - ep[j]) * idz);
         }
-    }
+    });
     // μ ∂t h_φ = −∂z e_r + ∂r e_z.
-    for i in 0..nr {
-        let hp = &mut f.hphi[i * nz..(i + 1) * nz];
-        let er = &f.er[i * nj1..(i + 1) * nj1];
-        let ez0 = &f.ez[i * nz..(i + 1) * nz];
-        let ez1 = &f.ez[(i + 1) * nz..(i + 2) * nz];
+    rows(hphi, nz, 0, nr, par, |i, hp| {
+        let er = &er[i * nj1..(i + 1) * nj1];
+        let ez0 = &ez[i * nz..(i + 1) * nz];
+        let ez1 = &ez[(i + 1) * nz..(i + 2) * nz];
         for j in 0..nz {
             hp[j] += ch * ((ez1[j] - ez0[j]) * idr - (er[j + 1] - er[j]) * idz);
         }
-    }
+    });
     // μ ∂t h_z = −(1/r) ∂r(r e_φ) − (m/r) e_r.
-    for i in 0..nr {
+    rows(hz, nj1, 0, nr, par, |i, hz| {
         let (a, b, mr) = (c.hz_out[i], c.hz_in[i], c.m_over_r_half[i]);
-        let hz = &mut f.hz[i * nj1..(i + 1) * nj1];
-        let ep0 = &f.ephi[i * nj1..(i + 1) * nj1];
-        let ep1 = &f.ephi[(i + 1) * nj1..(i + 2) * nj1];
-        let er = &f.er[i * nj1..(i + 1) * nj1];
+        let ep0 = &ephi[i * nj1..(i + 1) * nj1];
+        let ep1 = &ephi[(i + 1) * nj1..(i + 2) * nj1];
+        let er = &er[i * nj1..(i + 1) * nj1];
         for j in 0..nj1 {
             hz[j] -= ch * (a * ep1[j] - b * ep0[j] + mr * er[j]);
         }
-    }
+    });
 }
 
 /// Advances E by one step from H (Ampère's law, no sources).
 pub fn update_e(f: &mut Fields, c: &Coefficients) {
     let (nr, nz) = (c.nr, c.nz);
-    let (idr, idz) = (c.inv_dr, c.inv_dz);
+    let (idr, idz, par) = (c.inv_dr, c.inv_dz, c.row_parallel);
     let nj1 = nz + 1;
     // Odd image of tangential H across a PMC plane; across a PEC plane the
     // E node is held (cb = 0) and the value is irrelevant.
     let img = |w: ZWall| if w == ZWall::Pmc { -1.0 } else { 0.0 };
     let (ib, it) = (img(c.bottom), img(c.top));
+    let Fields {
+        er,
+        ephi,
+        ez,
+        hr,
+        hphi,
+        hz,
+        ..
+    } = f;
+    let (hr, hphi, hz) = (&hr[..], &hphi[..], &hz[..]);
     // ε ∂t e_r = (m/r) h_z − ∂z h_φ.
-    for i in 0..nr {
+    rows(er, nj1, 0, nr, par, |i, er| {
         let mr = c.m_over_r_half[i];
         let cb = &c.cb_er[i * nj1..(i + 1) * nj1];
-        let er = &mut f.er[i * nj1..(i + 1) * nj1];
-        let hz = &f.hz[i * nj1..(i + 1) * nj1];
-        let hp = &f.hphi[i * nz..(i + 1) * nz];
+        let hz = &hz[i * nj1..(i + 1) * nj1];
+        let hp = &hphi[i * nz..(i + 1) * nz];
         er[0] += cb[0] * (mr * hz[0] - (hp[0] - ib * hp[0]) * idz);
         for j in 1..nz {
             er[j] += cb[j] * (mr * hz[j] - (hp[j] - hp[j - 1]) * idz);
         }
         er[nz] += cb[nz] * (mr * hz[nz] - (it * hp[nz - 1] - hp[nz - 1]) * idz);
-    }
+    });
     // ε ∂t e_φ = ∂z h_r − ∂r h_z, rows 1..nr (axis derived, outer wall held).
-    for i in 1..nr {
+    rows(ephi, nj1, 1, nr, par, |i, ep| {
         let cb = &c.cb_ephi[i * nj1..(i + 1) * nj1];
-        let ep = &mut f.ephi[i * nj1..(i + 1) * nj1];
-        let hr = &f.hr[i * nz..(i + 1) * nz];
-        let hz0 = &f.hz[(i - 1) * nj1..i * nj1];
-        let hz1 = &f.hz[i * nj1..(i + 1) * nj1];
+        let hr = &hr[i * nz..(i + 1) * nz];
+        let hz0 = &hz[(i - 1) * nj1..i * nj1];
+        let hz1 = &hz[i * nj1..(i + 1) * nj1];
         ep[0] += cb[0] * ((hr[0] - ib * hr[0]) * idz - (hz1[0] - hz0[0]) * idr);
         for j in 1..nz {
             ep[j] += cb[j] * ((hr[j] - hr[j - 1]) * idz - (hz1[j] - hz0[j]) * idr);
         }
         ep[nz] += cb[nz] * ((it * hr[nz - 1] - hr[nz - 1]) * idz - (hz1[nz] - hz0[nz]) * idr);
-    }
+    });
     // ε ∂t e_z = (1/r) ∂r(r h_φ) − (m/r) h_r, rows 1..nr.
-    for i in 1..nr {
+    rows(ez, nz, 1, nr, par, |i, ez| {
         let (a, b, mr) = (c.ez_out[i], c.ez_in[i], c.m_over_r_int[i]);
         let cb = &c.cb_ez[i * nz..(i + 1) * nz];
-        let ez = &mut f.ez[i * nz..(i + 1) * nz];
-        let hp0 = &f.hphi[(i - 1) * nz..i * nz];
-        let hp1 = &f.hphi[i * nz..(i + 1) * nz];
-        let hr = &f.hr[i * nz..(i + 1) * nz];
+        let hp0 = &hphi[(i - 1) * nz..i * nz];
+        let hp1 = &hphi[i * nz..(i + 1) * nz];
+        let hr = &hr[i * nz..(i + 1) * nz];
         for j in 0..nz {
             ez[j] += cb[j] * (a * hp1[j] - b * hp0[j] - mr * hr[j]);
         }
-    }
+    });
     // Axis, m = 0 only (cb is zero on the axis for m ≥ 1):
     // ε ∂t e_z(0) = 4 h_φ(½)/Δr.
     if c.m == 0 {
         let cb = &c.cb_ez[0..nz];
-        let hp = &f.hphi[0..nz];
-        let ez = &mut f.ez[0..nz];
+        let hp = &hphi[0..nz];
+        let ez = &mut ez[0..nz];
         for j in 0..nz {
             ez[j] += cb[j] * 4.0 * idr * hp[j];
         }

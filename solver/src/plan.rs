@@ -53,6 +53,9 @@ pub struct RunOptions {
     pub sources: usize,
     /// Probe points. Default 5 (each reads all six components).
     pub probes: usize,
+    /// Grids of at least this many cells are updated row-parallel within a
+    /// run (results are identical either way). Default 200 000.
+    pub row_parallel_cells: usize,
     /// Memory cap per run, bytes. Default 4 GiB.
     pub max_memory: usize,
     /// Harmonic-inversion options.
@@ -73,6 +76,7 @@ impl Default for RunOptions {
             growth_limit: 100.0,
             sources: 3,
             probes: 5,
+            row_parallel_cells: 200_000,
             max_memory: 4 << 30,
             fdm,
         }

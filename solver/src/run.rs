@@ -96,7 +96,8 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
     let m = plan.m;
     let map = &problem.materials;
     let g = &map.grid;
-    let coeffs = Coefficients::new(map, &problem.walls, m, plan.dt);
+    let mut coeffs = Coefficients::new(map, &problem.walls, m, plan.dt);
+    coeffs.row_parallel = g.cells() >= problem.options.row_parallel_cells;
     let mut f = Fields::zeros(g);
     let table: Vec<f64> = (0..plan.source_steps)
         .map(|n| plan.pulse.current((n as f64 + 0.5) * plan.dt))

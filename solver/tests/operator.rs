@@ -1,0 +1,364 @@
+//! The kernel as a linear operator, checked against what the scheme must be:
+//!
+//! - its E-from-H and H-from-E parts are mutual adjoints under the volume
+//!   weights r·Δr·Δz (the finite-integration property that makes the scheme
+//!   energy-conserving), on a grid with a dielectric puck, a PEC and a PMC
+//!   wall, for m = 0 … 3;
+//! - the curl-curl operator has real non-negative eigenvalues, and the
+//!   Lanczos estimate of the largest one (which sets Δt) agrees with a dense
+//!   eigen-solve;
+//! - stepping just above the computed limit blows up, just below it does not.
+//!
+//! The matrices are built by applying the kernel to unit vectors, so the
+//! test sees exactly what a run steps.
+use faer::Mat;
+use lathe_mesh::{fill, Body, Component, FillOptions, Grid, Material, MaterialMap, Shape};
+use lathe_solver::coefficients::Coefficients;
+use lathe_solver::kernel::{update_e, update_h};
+use lathe_solver::{stability_limit, Fields, OuterWall, Walls, ZWall};
+
+fn setup() -> (MaterialMap, Walls) {
+    // Our own small case: 7 × 6 cells of 0.5 × 0.4 mm, a puck of ε_r 6.3
+    // whose faces fall between grid lines.
+    let g = Grid::new(3.5e-3, 0.0, 2.4e-3, 0.5e-3).unwrap();
+    let g = Grid {
+        dz: 0.4e-3,
+        nz: 6,
+        ..g
+    };
+    let puck = Body {
+        shape: Shape::Cylinder {
+            radius: 1.7e-3,
+            height: 1.1e-3,
+            base: 0.3e-3,
+        },
+        material: Material::Dielectric {
+            eps_r: 6.3,
+            loss_tangent: 0.0,
+        },
+    };
+    let map = fill(&g, &[puck], FillOptions::default());
+    let walls = Walls {
+        bottom: ZWall::Pmc,
+        top: ZWall::Pec,
+        outer: OuterWall::Pec,
+    };
+    (map, walls)
+}
+
+const E: [Component; 3] = [Component::Er, Component::Ephi, Component::Ez];
+const H: [Component; 3] = [Component::Hr, Component::Hphi, Component::Hz];
+
+/// (component, flat index) of every node of the given components.
+fn nodes(g: &Grid, comps: &[Component]) -> Vec<(Component, usize)> {
+    let mut v = Vec::new();
+    for &c in comps {
+        let (a, b) = c.shape(g);
+        for k in 0..a * b {
+            v.push((c, k));
+        }
+    }
+    v
+}
+
+/// Volume weight of a node: r of the node (Δr/8 for the axis E_z, whose
+/// dual cell is the disc of radius Δr/2), halved on a PMC plane.
+fn weight(g: &Grid, walls: &Walls, c: Component, k: usize) -> f64 {
+    let (_, nj) = c.shape(g);
+    let (i, j) = (k / nj, k % nj);
+    let (r, _) = c.position(g, i, j);
+    let mut w = if r == 0.0 { g.dr / 8.0 } else { r };
+    let on_plane = !c.staggering().1 && (j == 0 || j == nj - 1);
+    if on_plane {
+        let wall = if j == 0 { walls.bottom } else { walls.top };
+        if wall == ZWall::Pmc {
+            w *= 0.5;
+        }
+    }
+    w
+}
+
+/// K: H-rate per unit E (μ ∂t h = −K e), and L: E-rate per unit H
+/// (ε ∂t e = L h), each column from one kernel application with Δt = 1
+/// and the material factors divided out.
+fn operators(map: &MaterialMap, walls: &Walls, m: u32) -> (Mat<f64>, Mat<f64>, Vec<bool>) {
+    let g = &map.grid;
+    let c = Coefficients::new(map, walls, m, 1.0);
+    let en = nodes(g, &E);
+    let hn = nodes(g, &H);
+    let mut k = Mat::<f64>::zeros(hn.len(), en.len());
+    let mut l = Mat::<f64>::zeros(en.len(), hn.len());
+    let mut f = Fields::zeros(g);
+    for (col, &(ce, ke)) in en.iter().enumerate() {
+        f.clear();
+        f.get_mut(ce)[ke] = 1.0;
+        update_h(&mut f, &c);
+        for (row, &(ch, kh)) in hn.iter().enumerate() {
+            // h = −(Δt/μ0) K e  ⇒  K = −μ0 h.
+            k[(row, col)] = -f.get(ch)[kh] / c.ch;
+        }
+    }
+    for (col, &(ch, kh)) in hn.iter().enumerate() {
+        f.clear();
+        f.get_mut(ch)[kh] = 1.0;
+        update_e(&mut f, &c);
+        for (row, &(ce, ke)) in en.iter().enumerate() {
+            let cb = c.cb(ce)[ke];
+            l[(row, col)] = if cb == 0.0 { 0.0 } else { f.get(ce)[ke] / cb };
+        }
+    }
+    let free: Vec<bool> = en.iter().map(|&(ce, ke)| c.cb(ce)[ke] != 0.0).collect();
+    (k, l, free)
+}
+
+#[test]
+fn e_and_h_updates_are_adjoint_under_volume_weights() {
+    let (map, walls) = setup();
+    let g = &map.grid;
+    let en = nodes(g, &E);
+    let hn = nodes(g, &H);
+    for m in 0..=3 {
+        let (k, l, free) = operators(&map, &walls, m);
+        let mut worst: f64 = 0.0;
+        let mut scale: f64 = 0.0;
+        for (a, &(ce, ke)) in en.iter().enumerate() {
+            if !free[a] {
+                continue;
+            }
+            let we = weight(g, &walls, ce, ke);
+            for (b, &(ch, kh)) in hn.iter().enumerate() {
+                let wh = weight(g, &walls, ch, kh);
+                let lhs = we * l[(a, b)];
+                let rhs = k[(b, a)] * wh;
+                worst = worst.max((lhs - rhs).abs());
+                scale = scale.max(lhs.abs());
+            }
+        }
+        // Round-off only: the identity is exact in exact arithmetic.
+        assert!(worst <= 1e-12 * scale, "m = {m}: W_e L − Kᵀ W_h = {worst:e} (scale {scale:e})");
+    }
+}
+
+#[test]
+fn lanczos_limit_matches_dense_eigenvalues_and_spectrum_is_real() {
+    let (map, walls) = setup();
+    let g = &map.grid;
+    let en = nodes(g, &E);
+    for m in 0..=3 {
+        let (k, l, free) = operators(&map, &walls, m);
+        let c1 = Coefficients::new(&map, &walls, m, 1.0);
+        // A = ε⁻¹ L μ⁻¹ K on the free nodes; symmetrised by D^{1/2} A D^{-1/2}
+        // with D = w ε (the inner product in which A is self-adjoint).
+        let idx: Vec<usize> = (0..en.len()).filter(|&a| free[a]).collect();
+        let n = idx.len();
+        let d: Vec<f64> = idx
+            .iter()
+            .map(|&a| {
+                let (ce, ke) = en[a];
+                weight(g, &walls, ce, ke) / c1.cb(ce)[ke]
+            })
+            .collect();
+        let lk = &l * &k;
+        let mut s = Mat::<f64>::zeros(n, n);
+        for (p, &a) in idx.iter().enumerate() {
+            let (ca, ka) = en[a];
+            let inv_eps_a = c1.cb(ca)[ka] * c1.ch; // 1/(ε μ)
+            for (q, &b) in idx.iter().enumerate() {
+                s[(p, q)] = (d[p] / d[q]).sqrt() * inv_eps_a * lk[(a, b)];
+            }
+        }
+        let mut asym: f64 = 0.0;
+        for p in 0..n {
+            for q in 0..n {
+                asym = asym.max((s[(p, q)] - s[(q, p)]).abs());
+            }
+        }
+        let norm = s.norm_max();
+        assert!(asym <= 1e-12 * norm, "m = {m}: not symmetric, {asym:e}");
+        let eig = s.self_adjoint_eigenvalues(faer::Side::Lower).unwrap();
+        let lmax = eig.iter().cloned().fold(f64::MIN, f64::max);
+        let lmin = eig.iter().cloned().fold(f64::MAX, f64::min);
+        assert!(lmin >= -1e-10 * lmax, "m = {m}: negative eigenvalue {lmin:e}");
+        let lim = stability_limit(&map, &walls, m);
+        let rel = (lim.lambda_max - lmax).abs() / lmax;
+        // The Lanczos run stops at a 1e-7 change; on a 100-node problem it
+        // reaches the dense value to round-off.
+        assert!(rel < 1e-6, "m = {m}: Lanczos {:e} vs dense {lmax:e}", lim.lambda_max);
+    }
+}
+
+fn energy_after(map: &MaterialMap, walls: &Walls, m: u32, dt: f64, steps: usize) -> f64 {
+    let c = Coefficients::new(map, walls, m, dt);
+    let mut f = Fields::zeros(&map.grid);
+    let mut s = 12345u64;
+    for comp in E {
+        for (k, x) in f.get_mut(comp).iter_mut().enumerate() {
+            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            if c.cb(comp)[k] != 0.0 {
+                *x = ((s >> 11) as f64 / (1u64 << 53) as f64) - 0.5;
+            }
+        }
+    }
+    for _ in 0..steps {
+        update_h(&mut f, &c);
+        update_e(&mut f, &c);
+    }
+    E.iter().chain(&H).map(|&c| f.get(c).iter().map(|x| x * x).sum::<f64>()).sum()
+}
+
+#[test]
+fn stepping_above_the_computed_limit_blows_up_and_below_does_not() {
+    let (map, walls) = setup();
+    for m in [0, 2] {
+        let lim = stability_limit(&map, &walls, m);
+        let below = energy_after(&map, &walls, m, 0.995 * lim.dt_max, 4000);
+        let above = energy_after(&map, &walls, m, 1.01 * lim.dt_max, 4000);
+        let start = energy_after(&map, &walls, m, 0.995 * lim.dt_max, 0);
+        assert!(below < 1e4 * start, "m = {m}: grew below the limit ({below:e} vs {start:e})");
+        // (Overflow to ∞/NaN counts as growth.)
+        assert!(!(above < 1e12 * start), "m = {m}: did not grow above the limit ({above:e})");
+    }
+}
+
+/// Field value at a position, by looking the node up from its coordinates;
+/// outside the z range, the odd image across a PMC plane (tangential H).
+fn at(f: &Fields, g: &Grid, walls: &Walls, c: Component, r: f64, z: f64) -> f64 {
+    let (rh, zh) = c.staggering();
+    let (ni, nj) = c.shape(g);
+    let fi = r / g.dr - if rh { 0.5 } else { 0.0 };
+    let mut fz = (z - g.z0) / g.dz - if zh { 0.5 } else { 0.0 };
+    let mut sign = 1.0;
+    if fz < -0.25 {
+        fz = -fz - 1.0; // mirror across z0: z' = 2 z0 − z
+        sign = if walls.bottom == ZWall::Pmc { -1.0 } else { 0.0 };
+    } else if fz > nj as f64 - 0.75 {
+        fz = 2.0 * (nj as f64 - 1.0) + 1.0 - fz;
+        sign = if walls.top == ZWall::Pmc { -1.0 } else { 0.0 };
+    }
+    let (i, j) = (fi.round() as usize, fz.round() as usize);
+    assert!(i < ni && j < nj, "{c:?} at ({r}, {z}) outside");
+    sign * f.get(c)[i * nj + j]
+}
+
+#[test]
+fn kernel_matches_a_direct_transcription_of_the_equations() {
+    let (map, walls) = setup();
+    let g = &map.grid;
+    let (dr, dz) = (g.dr, g.dz);
+    for m in 0..=3u32 {
+        let mf = m as f64;
+        let c = Coefficients::new(&map, &walls, m, 1e-13);
+        let mut f = Fields::zeros(g);
+        let mut s = 99u64 + m as u64;
+        for comp in E.iter().chain(&H) {
+            for x in f.get_mut(*comp).iter_mut() {
+                s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+                *x = ((s >> 11) as f64 / (1u64 << 53) as f64) - 0.5;
+            }
+        }
+        // Axis values that are not unknowns of order m are zero in a run.
+        let clear_axis = |f: &mut Fields| {
+            let nj1 = g.nz + 1;
+            f.ephi[..nj1].fill(0.0);
+            f.hr[..g.nz].fill(0.0);
+            if m >= 1 {
+                f.ez[..g.nz].fill(0.0);
+            }
+        };
+        clear_axis(&mut f);
+        for comp in E {
+            for (k, x) in f.get_mut(comp).iter_mut().enumerate() {
+                if c.cb(comp)[k] == 0.0 {
+                    *x = 0.0;
+                }
+            }
+        }
+        let old = f.clone();
+        let mut fast = f.clone();
+        update_h(&mut fast, &c);
+        update_e(&mut fast, &c);
+        // Slow: every node from its coordinates.
+        let mut slow = old.clone();
+        let e = |f: &Fields, cc, r, z| at(f, g, &walls, cc, r, z);
+        for comp in H {
+            let (ni, nj) = comp.shape(g);
+            for i in 0..ni {
+                for j in 0..nj {
+                    let (r, z) = comp.position(g, i, j);
+                    let d = match comp {
+                        Component::Hr if r > 0.0 && i < g.nr => {
+                            mf / r * e(&old, Component::Ez, r, z)
+                                + (e(&old, Component::Ephi, r, z + dz / 2.0)
+                                    - e(&old, Component::Ephi, r, z - dz / 2.0))
+                                    / dz
+                        }
+                        Component::Hr => 0.0,
+                        Component::Hphi => {
+                            (e(&old, Component::Ez, r + dr / 2.0, z)
+                                - e(&old, Component::Ez, r - dr / 2.0, z))
+                                / dr
+                                - (e(&old, Component::Er, r, z + dz / 2.0)
+                                    - e(&old, Component::Er, r, z - dz / 2.0))
+                                    / dz
+                        }
+                        _ => {
+                            let (ra, rb) = (r - dr / 2.0, r + dr / 2.0);
+                            -((rb * e(&old, Component::Ephi, rb, z)
+                                - ra * e(&old, Component::Ephi, ra, z))
+                                / (r * dr)
+                                + mf / r * e(&old, Component::Er, r, z))
+                        }
+                    };
+                    slow.get_mut(comp)[i * nj + j] += c.ch * d;
+                }
+            }
+        }
+        let mid = slow.clone();
+        for comp in E {
+            let (ni, nj) = comp.shape(g);
+            for i in 0..ni {
+                for j in 0..nj {
+                    let cb = c.cb(comp)[i * nj + j];
+                    if cb == 0.0 {
+                        continue;
+                    }
+                    let (r, z) = comp.position(g, i, j);
+                    let h = |cc, r, z| at(&mid, g, &walls, cc, r, z);
+                    let d = match comp {
+                        Component::Er => {
+                            mf / r * h(Component::Hz, r, z)
+                                - (h(Component::Hphi, r, z + dz / 2.0)
+                                    - h(Component::Hphi, r, z - dz / 2.0))
+                                    / dz
+                        }
+                        Component::Ephi => {
+                            (h(Component::Hr, r, z + dz / 2.0) - h(Component::Hr, r, z - dz / 2.0))
+                                / dz
+                                - (h(Component::Hz, r + dr / 2.0, z)
+                                    - h(Component::Hz, r - dr / 2.0, z))
+                                    / dr
+                        }
+                        _ if r == 0.0 => 4.0 * h(Component::Hphi, dr / 2.0, z) / dr,
+                        _ => {
+                            let (ra, rb) = (r - dr / 2.0, r + dr / 2.0);
+                            (rb * h(Component::Hphi, rb, z) - ra * h(Component::Hphi, ra, z))
+                                / (r * dr)
+                                - mf / r * h(Component::Hr, r, z)
+                        }
+                    };
+                    slow.get_mut(comp)[i * nj + j] += cb * d;
+                }
+            }
+        }
+        for comp in E.iter().chain(&H) {
+            let worst = fast
+                .get(*comp)
+                .iter()
+                .zip(slow.get(*comp))
+                .map(|(a, b)| (a - b).abs())
+                .fold(0.0, f64::max);
+            let scale = slow.get(*comp).iter().map(|x| x.abs()).fold(0.0, f64::max);
+            assert!(worst <= 1e-12 * scale, "m = {m}, {comp:?}: fast vs slow differ by {worst:e}");
+        }
+    }
+}

@@ -1,0 +1,104 @@
+//! The `lathe` command as a user meets it: the shipped example, the plan,
+//! JSON output, and exit code 2 with a message naming key and value for
+//! bad input.
+use std::process::Command;
+
+fn lathe(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_lathe"))
+        .args(args)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("run lathe");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn shipped_example_runs_and_writes_json() {
+    let (code, out, err) = lathe(&["modes", "examples/filter_puck.toml", "--json", "-", "--quiet"]);
+    assert_eq!(code, 0, "{err}");
+    let start = out.find('{').expect("JSON on stdout");
+    let doc: serde_json::Value = serde_json::from_str(&out[start..]).unwrap();
+    let modes = doc["modes"].as_array().unwrap();
+    assert!(!modes.is_empty());
+    for m in modes {
+        for key in ["m", "freq_hz", "q", "error", "amplitude"] {
+            assert!(m[key].is_number(), "mode lacks {key}: {m}");
+        }
+        let f = m["freq_hz"].as_f64().unwrap();
+        assert!((3.5e9..=8.0e9).contains(&f));
+    }
+    let runs = doc["runs"].as_array().unwrap();
+    assert_eq!(runs.len(), 3);
+    for r in runs {
+        for key in ["m", "nr", "nz", "cell_r_mm", "cell_z_mm", "dt_s", "steps", "cell_updates", "seconds"] {
+            assert!(r[key].is_number(), "run lacks {key}: {r}");
+        }
+        let cu = r["cell_updates"].as_f64().unwrap();
+        let expect = r["nr"].as_f64().unwrap() * r["nz"].as_f64().unwrap() * r["steps"].as_f64().unwrap();
+        assert_eq!(cu, expect, "cell_updates = cells × steps");
+    }
+    // The lowest mode of this puck is m = 0 (its comment says so).
+    assert_eq!(modes[0]["m"].as_u64(), Some(0));
+}
+
+#[test]
+fn check_prints_the_plan_without_running() {
+    let (code, out, err) = lathe(&["check", "examples/filter_puck.toml", "--m", "1"]);
+    assert_eq!(code, 0, "{err}");
+    for word in ["grid", "time step", "limit", "pulse", "sampling", "source", "probe", "memory"] {
+        assert!(out.contains(word), "plan lacks '{word}':\n{out}");
+    }
+}
+
+fn write_tmp(name: &str, text: &str) -> String {
+    let dir = std::env::temp_dir().join(format!("lathe-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p.to_string_lossy().into_owned()
+}
+
+const GOOD: &str = "[region]\nradius = 5.0\nz_min = 0.0\nz_max = 7.0\n[search]\nm = [0]\nf_min = 20.0\nf_max = 40.0\n";
+
+#[test]
+fn bad_input_exits_2_and_quotes_key_and_value() {
+    let cases: &[(&str, &str, &[&str])] = &[
+        ("radus", &GOOD.replace("radius", "radus"), &["region.radus", "did you mean `radius`"]),
+        ("fmax", &GOOD.replace("f_max = 40.0", "f_max = 10.0"), &["search.f_max", "10"]),
+        ("neg", &GOOD.replace("radius = 5.0", "radius = -5.0"), &["region.radius", "-5"]),
+        ("toml", "[region\nradius = 1", &["not valid TOML"]),
+        ("m", &GOOD.replace("m = [0]", "m = [0, 1.5]"), &["search.m", "1.5"]),
+        (
+            "eps",
+            &format!("{GOOD}[[body]]\nshape = \"cylinder\"\nradius = 1.0\nheight = 1.0\nbase = 0.0\neps_r = 0.3\n"),
+            &["body[0].eps_r", "0.3"],
+        ),
+    ];
+    for (name, text, needles) in cases {
+        let path = write_tmp(&format!("{name}.toml"), text);
+        let (code, _, err) = lathe(&["modes", &path]);
+        assert_eq!(code, 2, "{name}: {err}");
+        for n in *needles {
+            assert!(err.contains(n), "{name}: message lacks '{n}':\n{err}");
+        }
+        assert!(!err.contains("panicked"), "{name}: {err}");
+    }
+    let (code, _, err) = lathe(&["modes", "no/such/file.toml"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("no/such/file.toml"));
+    let (code, _, _) = lathe(&["modes", "examples/filter_puck.toml", "--m", "x"]);
+    assert_eq!(code, 2);
+}
+
+#[test]
+fn empty_band_is_a_failed_run_with_exit_1() {
+    // A 5 mm can has no resonance below 20 GHz (TM010 is at 22.9 GHz).
+    let path = write_tmp("empty.toml", &GOOD.replace("f_min = 20.0\nf_max = 40.0", "f_min = 5.0\nf_max = 20.0"));
+    let (code, _, err) = lathe(&["modes", &path, "--quiet"]);
+    assert_eq!(code, 1, "{err}");
+    assert!(err.contains("no mode found"), "{err}");
+}
