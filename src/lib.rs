@@ -14,7 +14,7 @@
 //! use lathe::scenario::Scenario;
 //!
 //! // A dielectric puck (ε_r 9.4) on the floor of a closed copper can,
-//! // searched for its m = 0 modes between 6 and 11 GHz.
+//! // searched for its m = 0 modes between 10 and 14 GHz.
 //! let text = r#"
 //!     [region]
 //!     radius = 7.3
@@ -29,8 +29,8 @@
 //!     eps_r = 9.4
 //!     [search]
 //!     m = [0]
-//!     f_min = 6.0
-//!     f_max = 11.0
+//!     f_min = 10.0
+//!     f_max = 14.0
 //! "#;
 //! let scenario = Scenario::parse(text, "puck.toml").unwrap();
 //! let problem = scenario.problem().unwrap();

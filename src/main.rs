@@ -10,7 +10,11 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 #[derive(Parser)]
-#[command(name = "lathe", version, about = "Resonances of bodies of revolution by BOR-FDTD")]
+#[command(
+    name = "lathe",
+    version,
+    about = "Resonances of bodies of revolution by BOR-FDTD"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -158,7 +162,8 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             }
             print!("{}", output::table(&runs));
             if let Some(path) = json {
-                let doc = serde_json::to_string_pretty(&output::json(&runs)).expect("JSON of plain numbers");
+                let doc = serde_json::to_string_pretty(&output::json(&runs))
+                    .expect("JSON of plain numbers");
                 if path.as_os_str() == "-" {
                     println!("{doc}");
                 } else {

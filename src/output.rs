@@ -102,6 +102,13 @@ pub fn plan_text(
         g.z0 * 1e3,
         g.z_top() * 1e3
     );
+    let (ao, ab, at) = scenario.absorber_cells();
+    if ao + ab + at > 0 {
+        let _ = writeln!(
+            s,
+            "absorber    PML cells outer {ao}, bottom {ab}, top {at} (added beyond the region; grid above includes them)"
+        );
+    }
     let w = &problem.walls;
     let _ = writeln!(
         s,
@@ -162,7 +169,11 @@ pub fn plan_text(
                 );
             }
         }
-        let _ = writeln!(s, "  memory      {:.1} MiB", p.memory_bytes as f64 / 1048576.0);
+        let _ = writeln!(
+            s,
+            "  memory      {:.1} MiB",
+            p.memory_bytes as f64 / 1048576.0
+        );
     }
     Ok(s)
 }

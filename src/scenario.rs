@@ -35,7 +35,7 @@
 //! ```
 use lathe_mesh::{fill, Body, FillOptions, Grid, Material, Shape};
 use lathe_solver::consts::C0;
-use lathe_solver::{OuterWall, Problem, RunOptions, Walls, ZWall};
+use lathe_solver::{Absorber, OuterWall, Problem, RunOptions, Walls, ZWall};
 use std::fmt;
 use toml::{Table, Value};
 
@@ -49,7 +49,7 @@ pub const DEFAULT_CELLS_PER_WAVELENGTH: f64 = 24.0;
 /// A mistake in a scenario, quoting the file, the key and the value.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ScenarioError {
-    /// The file (or "<scenario>").
+    /// The file name as given by the caller.
     pub file: String,
     /// The key, e.g. `body[2].radius`; empty for file-level problems.
     pub key: String,
@@ -179,19 +179,24 @@ impl Reader<'_> {
         if v > 0.0 {
             Ok(v)
         } else {
-            Err(self.err(
-                full,
-                format!("must be positive, got {v} {unit}"),
-                None,
-            ))
+            Err(self.err(full, format!("must be positive, got {v} {unit}"), None))
         }
     }
 
-    fn string<'t>(&self, t: &'t Table, key: &str, full: &str) -> Result<Option<&'t str>, ScenarioError> {
+    fn string<'t>(
+        &self,
+        t: &'t Table,
+        key: &str,
+        full: &str,
+    ) -> Result<Option<&'t str>, ScenarioError> {
         match t.get(key) {
             None => Ok(None),
             Some(Value::String(s)) => Ok(Some(s.as_str())),
-            Some(v) => Err(self.err(full, format!("expected a string, found {}", describe(v)), None)),
+            Some(v) => Err(self.err(
+                full,
+                format!("expected a string, found {}", describe(v)),
+                None,
+            )),
         }
     }
 }
@@ -264,7 +269,11 @@ impl Scenario {
             Some(c) => Some(rd.positive(c, "region.cell", "mm")? * MM),
             None => None,
         };
-        let cpw = match rd.number(region, "cells_per_wavelength", "region.cells_per_wavelength")? {
+        let cpw = match rd.number(
+            region,
+            "cells_per_wavelength",
+            "region.cells_per_wavelength",
+        )? {
             Some(c) if c >= 4.0 => c,
             Some(c) => {
                 return Err(rd.err(
@@ -277,44 +286,85 @@ impl Scenario {
         };
 
         // [boundary]
-        let walls = match rd.table(&root, "boundary")? {
-            None => Walls {
-                bottom: ZWall::Pec,
-                top: ZWall::Pec,
-                outer: OuterWall::Pec,
-            },
-            Some(b) => {
-                rd.check_keys(b, "boundary", &["outer", "bottom", "top"])?;
-                let zwall = |key: &str| -> Result<ZWall, ScenarioError> {
-                    let full = format!("boundary.{key}");
-                    match rd.string(b, key, &full)? {
-                        None | Some("pec") => Ok(ZWall::Pec),
-                        Some("pmc") => Ok(ZWall::Pmc),
-                        Some(other) => Err(rd.err(
-                            &full,
-                            format!("unknown wall \"{other}\"; allowed: \"pec\", \"pmc\""),
-                            (other.eq_ignore_ascii_case("pec") || other.eq_ignore_ascii_case("pmc"))
-                                .then(|| format!("write it in lower case: \"{}\"", other.to_lowercase())),
-                        )),
-                    }
+        let mut names = ["pec", "pec", "pec"]; // outer, bottom, top
+        let mut pml = (16usize, 3.0f64, 1e-8f64);
+        if let Some(b) = rd.table(&root, "boundary")? {
+            rd.check_keys(
+                b,
+                "boundary",
+                &[
+                    "outer",
+                    "bottom",
+                    "top",
+                    "pml_cells",
+                    "pml_order",
+                    "pml_reflection",
+                ],
+            )?;
+            for (k, key) in ["outer", "bottom", "top"].iter().enumerate() {
+                let full = format!("boundary.{key}");
+                let allowed: &[&str] = if k == 0 {
+                    &["pec", "pml"]
+                } else {
+                    &["pec", "pmc", "pml"]
                 };
-                let outer = match rd.string(b, "outer", "boundary.outer")? {
-                    None | Some("pec") => OuterWall::Pec,
-                    Some(other) => {
-                        return Err(rd.err(
-                            "boundary.outer",
-                            format!("unknown wall \"{other}\"; allowed in this version: \"pec\""),
-                            None,
-                        ))
+                if let Some(v) = rd.string(b, key, &full)? {
+                    match allowed.iter().find(|a| **a == v) {
+                        Some(a) => names[k] = a,
+                        None => {
+                            let list: Vec<String> =
+                                allowed.iter().map(|a| format!("\"{a}\"")).collect();
+                            let lower = v.to_lowercase();
+                            let hint = if allowed.contains(&lower.as_str()) {
+                                Some(format!("write it in lower case: \"{lower}\""))
+                            } else if k == 0 && lower == "pmc" {
+                                Some(
+                                    "a PMC outer wall is not offered; use \"pec\" or \"pml\""
+                                        .into(),
+                                )
+                            } else {
+                                None
+                            };
+                            return Err(rd.err(
+                                &full,
+                                format!("unknown wall \"{v}\"; allowed: {}", list.join(", ")),
+                                hint,
+                            ));
+                        }
                     }
-                };
-                Walls {
-                    bottom: zwall("bottom")?,
-                    top: zwall("top")?,
-                    outer,
                 }
             }
-        };
+            if let Some(c) = rd.number(b, "pml_cells", "boundary.pml_cells")? {
+                if c.fract() != 0.0 || !(4.0..=200.0).contains(&c) {
+                    return Err(rd.err(
+                        "boundary.pml_cells",
+                        format!("must be a whole number from 4 to 200, got {c}"),
+                        None,
+                    ));
+                }
+                pml.0 = c as usize;
+            }
+            if let Some(p) = rd.number(b, "pml_order", "boundary.pml_order")? {
+                if !(1.0..=6.0).contains(&p) {
+                    return Err(rd.err(
+                        "boundary.pml_order",
+                        format!("must lie in 1 … 6, got {p}"),
+                        None,
+                    ));
+                }
+                pml.1 = p;
+            }
+            if let Some(r) = rd.number(b, "pml_reflection", "boundary.pml_reflection")? {
+                if !(1e-16..=1e-2).contains(&r) {
+                    return Err(rd.err(
+                        "boundary.pml_reflection",
+                        format!("must lie in 1e-16 … 1e-2, got {r}"),
+                        None,
+                    ));
+                }
+                pml.2 = r;
+            }
+        }
 
         // [[body]]
         let mut bodies = Vec::new();
@@ -335,7 +385,10 @@ impl Scenario {
             Some(v) => {
                 return Err(rd.err(
                     "body",
-                    format!("expected an array of tables [[body]], found {}", describe(v)),
+                    format!(
+                        "expected an array of tables [[body]], found {}",
+                        describe(v)
+                    ),
                     Some("write [[body]] (double brackets) for each body".into()),
                 ))
             }
@@ -375,6 +428,26 @@ impl Scenario {
             }
             None => None,
         };
+        let absorber = Absorber {
+            cells: pml.0,
+            order: pml.1,
+            reflection: pml.2,
+            ..Absorber::default_for(f_min * GHZ)
+        };
+        let zwall = |n: &str| match n {
+            "pmc" => ZWall::Pmc,
+            "pml" => ZWall::Pml(absorber),
+            _ => ZWall::Pec,
+        };
+        let walls = Walls {
+            outer: if names[0] == "pml" {
+                OuterWall::Pml(absorber)
+            } else {
+                OuterWall::Pec
+            },
+            bottom: zwall(names[1]),
+            top: zwall(names[2]),
+        };
         Ok(Scenario {
             radius: radius * MM,
             z_min: z_min * MM,
@@ -409,14 +482,86 @@ impl Scenario {
         })
     }
 
-    /// The grid.
+    /// The grid of the region the user described (without absorbers).
     pub fn grid(&self) -> Result<Grid, ScenarioError> {
-        Grid::new(self.radius, self.z_min, self.z_max, self.cell_size()).map_err(|e| ScenarioError {
-            file: String::new(),
-            key: "region.cell".into(),
-            message: e.to_string(),
-            hint: Some("use a larger cell or fewer cells_per_wavelength".into()),
+        Grid::new(self.radius, self.z_min, self.z_max, self.cell_size()).map_err(|e| {
+            ScenarioError {
+                file: String::new(),
+                key: "region.cell".into(),
+                message: e.to_string(),
+                hint: Some("use a larger cell or fewer cells_per_wavelength".into()),
+            }
         })
+    }
+
+    /// Absorber cells added beyond the region: (outer, bottom, top).
+    pub fn absorber_cells(&self) -> (usize, usize, usize) {
+        let z = |w: ZWall| w.absorber().map_or(0, |a| a.cells);
+        (
+            self.walls.outer.absorber().map_or(0, |a| a.cells),
+            z(self.walls.bottom),
+            z(self.walls.top),
+        )
+    }
+
+    /// The grid the solver steps: the region plus its absorbers' cells, with
+    /// the same steps.
+    pub fn solver_grid(&self) -> Result<Grid, ScenarioError> {
+        let g = self.grid()?;
+        let (o, b, t) = self.absorber_cells();
+        Ok(Grid {
+            nr: g.nr + o,
+            nz: g.nz + b + t,
+            z0: g.z0 - b as f64 * g.dz,
+            ..g
+        })
+    }
+
+    /// The bodies as the solver sees them: a body that reaches an absorbing
+    /// edge of the region continues through the absorber (it is taken to be
+    /// infinite in that direction, like a ground plane or a substrate).
+    pub fn solver_bodies(&self, grid: &Grid) -> Vec<Body> {
+        let tol = 1e-9 * (self.radius + (self.z_max - self.z_min));
+        let (o, b, t) = self.absorber_cells();
+        self.bodies
+            .iter()
+            .map(|body| {
+                let (_, r1, z0, z1) = body.shape.bounds();
+                let r_new = if o > 0 && r1 >= self.radius - tol {
+                    grid.radius()
+                } else {
+                    r1
+                };
+                let lo = if b > 0 && z0 <= self.z_min + tol {
+                    grid.z0
+                } else {
+                    z0
+                };
+                let hi = if t > 0 && z1 >= self.z_max - tol {
+                    grid.z_top()
+                } else {
+                    z1
+                };
+                let shape = match body.shape {
+                    Shape::Cylinder { .. } => Shape::Cylinder {
+                        radius: r_new,
+                        height: hi - lo,
+                        base: lo,
+                    },
+                    Shape::Ring { inner_radius, .. } => Shape::Ring {
+                        inner_radius,
+                        outer_radius: r_new,
+                        height: hi - lo,
+                        base: lo,
+                    },
+                    ref other => other.clone(),
+                };
+                Body {
+                    shape,
+                    material: body.material,
+                }
+            })
+            .collect()
     }
 
     /// Warnings about the plan (resolution of bodies), for the plan printout.
@@ -444,8 +589,8 @@ impl Scenario {
 
     /// The solver's problem for this scenario.
     pub fn problem(&self) -> Result<Problem, ScenarioError> {
-        let grid = self.grid()?;
-        let materials = fill(&grid, &self.bodies, FillOptions::default());
+        let grid = self.solver_grid()?;
+        let materials = fill(&grid, &self.solver_bodies(&grid), FillOptions::default());
         let mut options = RunOptions::default();
         if let Some(p) = self.max_periods {
             options.max_periods = p;
@@ -471,14 +616,21 @@ fn read_orders(rd: &Reader, v: &Value, key: &str) -> Result<Vec<u32>, ScenarioEr
             )),
             other => Err(rd.err(
                 key,
-                format!("azimuthal orders are whole numbers ≥ 0, found {}", describe(other)),
+                format!(
+                    "azimuthal orders are whole numbers ≥ 0, found {}",
+                    describe(other)
+                ),
                 None,
             )),
         }
     };
     let mut out = match v {
         Value::Array(a) if a.is_empty() => {
-            return Err(rd.err(key, "the list is empty".into(), Some("e.g. m = [0, 1, 2]".into())))
+            return Err(rd.err(
+                key,
+                "the list is empty".into(),
+                Some("e.g. m = [0, 1, 2]".into()),
+            ))
         }
         Value::Array(a) => a.iter().map(one).collect::<Result<Vec<_>, _>>()?,
         other => vec![one(other)?],
@@ -505,14 +657,15 @@ fn read_body(
             None,
         )
     })?;
-    let common = ["shape", "height", "base", "eps_r", "loss_tangent", "conductor"];
+    let common = ["shape", "eps_r", "loss_tangent", "conductor"];
     let extra: &[&str] = match shape_name {
-        "cylinder" => &["radius"],
-        "ring" => &["inner_radius", "outer_radius"],
+        "cylinder" => &["radius", "height", "base"],
+        "ring" => &["inner_radius", "outer_radius", "height", "base"],
+        "sphere" => &["radius", "center"],
         other => {
             return Err(rd.err(
                 &full("shape"),
-                format!("unknown shape \"{other}\"; allowed: \"cylinder\", \"ring\""),
+                format!("unknown shape \"{other}\"; allowed: \"cylinder\", \"ring\", \"sphere\""),
                 None,
             ))
         }
@@ -523,39 +676,15 @@ fn read_body(
         let v = rd.required(t, key, &full(key), what)?;
         rd.positive(v, &full(key), "mm")
     };
-    let height = len("height", "height in mm")?;
-    let base = rd.required(t, "base", &full("base"), "z of the bottom face in mm")?;
     let shape = match shape_name {
-        "cylinder" => Shape::Cylinder {
+        "sphere" => Shape::Sphere {
             radius: len("radius", "radius in mm")? * MM,
-            height: height * MM,
-            base: base * MM,
+            center: rd.required(t, "center", &full("center"), "z of the centre in mm")? * MM,
         },
-        _ => {
-            let inner = rd.required(t, "inner_radius", &full("inner_radius"), "inner radius in mm")?;
-            if inner < 0.0 {
-                return Err(rd.err(
-                    &full("inner_radius"),
-                    format!("must be ≥ 0, got {inner} mm"),
-                    None,
-                ));
-            }
-            let outer = len("outer_radius", "outer radius in mm")?;
-            if outer <= inner {
-                return Err(rd.err(
-                    &full("outer_radius"),
-                    format!("must exceed inner_radius = {inner} mm, got {outer} mm"),
-                    None,
-                ));
-            }
-            Shape::Ring {
-                inner_radius: inner * MM,
-                outer_radius: outer * MM,
-                height: height * MM,
-                base: base * MM,
-            }
-        }
+        _ => rect_shape(rd, t, &p, shape_name)?,
     };
+    let _ = region_radius;
+
     let (r0, _r1, b0, b1) = shape.bounds();
     if r0 >= region_radius || b0 >= z_max * MM || b1 <= z_min * MM {
         return Err(rd.err(
@@ -620,6 +749,52 @@ fn read_body(
         }
     };
     Ok(Body { shape, material })
+}
+
+fn rect_shape(rd: &Reader, t: &Table, p: &str, shape_name: &str) -> Result<Shape, ScenarioError> {
+    let full = |key: &str| format!("{p}.{key}");
+    let len = |key: &str, what: &str| -> Result<f64, ScenarioError> {
+        let v = rd.required(t, key, &full(key), what)?;
+        rd.positive(v, &full(key), "mm")
+    };
+    let height = len("height", "height in mm")?;
+    let base = rd.required(t, "base", &full("base"), "z of the bottom face in mm")?;
+    Ok(match shape_name {
+        "cylinder" => Shape::Cylinder {
+            radius: len("radius", "radius in mm")? * MM,
+            height: height * MM,
+            base: base * MM,
+        },
+        _ => {
+            let inner = rd.required(
+                t,
+                "inner_radius",
+                &full("inner_radius"),
+                "inner radius in mm",
+            )?;
+            if inner < 0.0 {
+                return Err(rd.err(
+                    &full("inner_radius"),
+                    format!("must be ≥ 0, got {inner} mm"),
+                    None,
+                ));
+            }
+            let outer = len("outer_radius", "outer radius in mm")?;
+            if outer <= inner {
+                return Err(rd.err(
+                    &full("outer_radius"),
+                    format!("must exceed inner_radius = {inner} mm, got {outer} mm"),
+                    None,
+                ));
+            }
+            Shape::Ring {
+                inner_radius: inner * MM,
+                outer_radius: outer * MM,
+                height: height * MM,
+                base: base * MM,
+            }
+        }
+    })
 }
 
 #[cfg(test)]

@@ -18,7 +18,13 @@ fn lathe(args: &[&str]) -> (i32, String, String) {
 
 #[test]
 fn shipped_example_runs_and_writes_json() {
-    let (code, out, err) = lathe(&["modes", "examples/filter_puck.toml", "--json", "-", "--quiet"]);
+    let (code, out, err) = lathe(&[
+        "modes",
+        "examples/filter_puck.toml",
+        "--json",
+        "-",
+        "--quiet",
+    ]);
     assert_eq!(code, 0, "{err}");
     let start = out.find('{').expect("JSON on stdout");
     let doc: serde_json::Value = serde_json::from_str(&out[start..]).unwrap();
@@ -34,11 +40,22 @@ fn shipped_example_runs_and_writes_json() {
     let runs = doc["runs"].as_array().unwrap();
     assert_eq!(runs.len(), 3);
     for r in runs {
-        for key in ["m", "nr", "nz", "cell_r_mm", "cell_z_mm", "dt_s", "steps", "cell_updates", "seconds"] {
+        for key in [
+            "m",
+            "nr",
+            "nz",
+            "cell_r_mm",
+            "cell_z_mm",
+            "dt_s",
+            "steps",
+            "cell_updates",
+            "seconds",
+        ] {
             assert!(r[key].is_number(), "run lacks {key}: {r}");
         }
         let cu = r["cell_updates"].as_f64().unwrap();
-        let expect = r["nr"].as_f64().unwrap() * r["nz"].as_f64().unwrap() * r["steps"].as_f64().unwrap();
+        let expect =
+            r["nr"].as_f64().unwrap() * r["nz"].as_f64().unwrap() * r["steps"].as_f64().unwrap();
         assert_eq!(cu, expect, "cell_updates = cells × steps");
     }
     // The lowest mode of this puck is m = 0 (its comment says so).
@@ -49,7 +66,16 @@ fn shipped_example_runs_and_writes_json() {
 fn check_prints_the_plan_without_running() {
     let (code, out, err) = lathe(&["check", "examples/filter_puck.toml", "--m", "1"]);
     assert_eq!(code, 0, "{err}");
-    for word in ["grid", "time step", "limit", "pulse", "sampling", "source", "probe", "memory"] {
+    for word in [
+        "grid",
+        "time step",
+        "limit",
+        "pulse",
+        "sampling",
+        "source",
+        "probe",
+        "memory",
+    ] {
         assert!(out.contains(word), "plan lacks '{word}':\n{out}");
     }
 }
@@ -97,7 +123,10 @@ fn bad_input_exits_2_and_quotes_key_and_value() {
 #[test]
 fn empty_band_is_a_failed_run_with_exit_1() {
     // A 5 mm can has no resonance below 20 GHz (TM010 is at 22.9 GHz).
-    let path = write_tmp("empty.toml", &GOOD.replace("f_min = 20.0\nf_max = 40.0", "f_min = 5.0\nf_max = 20.0"));
+    let path = write_tmp(
+        "empty.toml",
+        &GOOD.replace("f_min = 20.0\nf_max = 40.0", "f_min = 5.0\nf_max = 20.0"),
+    );
     let (code, _, err) = lathe(&["modes", &path, "--quiet"]);
     assert_eq!(code, 1, "{err}");
     assert!(err.contains("no mode found"), "{err}");

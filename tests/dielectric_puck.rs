@@ -15,6 +15,7 @@
 //!   matrix pencil) agree on the same FDTD probe signals.
 //!
 //! Dimensions and material (ε_r 9.8, radius 3.2 mm) are our own.
+#![allow(clippy::needless_range_loop)] // index loops mirror the table of grids
 use lathe::mesh::Component;
 use lathe::scenario::Scenario;
 use lathe::solver::harminv::{filter_diagonalisation, matrix_pencil, PencilOptions};
@@ -64,7 +65,12 @@ fn puck_frequencies_converge_at_the_expected_rates() {
     for src in &mut p.sources {
         src.taps.retain(|t| t.component == Component::Ephi);
     }
-    let te: Vec<f64> = run(&problem, &p).unwrap().modes.iter().map(|m| m.freq_hz).collect();
+    let te: Vec<f64> = run(&problem, &p)
+        .unwrap()
+        .modes
+        .iter()
+        .map(|m| m.freq_hz)
+        .collect();
     assert!(!te.is_empty(), "no TE mode in the band");
     let mut second_order = 0;
     for (k, m) in [0u32, 1].iter().enumerate() {
@@ -82,7 +88,10 @@ fn puck_frequencies_converge_at_the_expected_rates() {
                 c / 1e9
             );
             if is_te {
-                assert!((3.5..=4.5).contains(&ratio), "m = {m} mode {q}: ratio {ratio}");
+                assert!(
+                    (3.5..=4.5).contains(&ratio),
+                    "m = {m} mode {q}: ratio {ratio}"
+                );
                 second_order += 1;
             } else {
                 assert!(ratio >= 2.5, "m = {m} mode {q}: ratio {ratio}");
@@ -101,7 +110,8 @@ fn both_estimators_agree_on_the_fdtd_signals() {
         for sig in &r.signals {
             let c: Vec<Complex64> = sig.iter().map(|&x| Complex64::new(x, 0.0)).collect();
             let dt = r.report.sample_dt;
-            let fdm = filter_diagonalisation(&c, dt, s.f_min, s.f_max, &Default::default()).unwrap();
+            let fdm =
+                filter_diagonalisation(&c, dt, s.f_min, s.f_max, &Default::default()).unwrap();
             let mp = matrix_pencil(&c, dt, s.f_min, s.f_max, &PencilOptions::default()).unwrap();
             assert_eq!(fdm.len(), mp.len(), "m = {}: {fdm:?} vs {mp:?}", r.report.m);
             for (a, b) in fdm.iter().zip(&mp) {

@@ -45,5 +45,8 @@ fn one_and_two_threads_give_identical_bits() {
         assert!(a.fields == b.fields);
         n += a.modes.len();
     }
-    assert!(n >= 3, "too few modes ({n}) for the comparison to mean much");
+    assert!(
+        n >= 3,
+        "too few modes ({n}) for the comparison to mean much"
+    );
 }

@@ -125,9 +125,15 @@ fn node_in_metal(bodies: &[Body], r: f64, z: f64, slack: f64) -> bool {
     if !bodies.iter().any(|b| b.material == Material::Pec) {
         return false;
     }
-    [(0.0, 0.0), (1.0, 1.0), (1.0, -1.0), (-1.0, 1.0), (-1.0, -1.0)]
-        .iter()
-        .any(|&(a, b)| material_at(bodies, (r + a * slack).max(0.0), z + b * slack).is_none())
+    [
+        (0.0, 0.0),
+        (1.0, 1.0),
+        (1.0, -1.0),
+        (-1.0, 1.0),
+        (-1.0, -1.0),
+    ]
+    .iter()
+    .any(|&(a, b)| material_at(bodies, (r + a * slack).max(0.0), z + b * slack).is_none())
 }
 
 fn fill_component(grid: &Grid, bodies: &[Body], c: Component, samples: usize) -> NodeMaterial {
@@ -185,6 +191,9 @@ fn cell_average(
     if uniform {
         return if metal { 1.0 } else { eps };
     }
+    if !bodies.iter().all(|b| b.shape.is_rectangle()) {
+        return curved_cell(bodies, (r0, r1, z0, z1));
+    }
     let cuts = |lo: f64, hi: f64, radial: bool| -> Vec<f64> {
         let mut v = vec![lo, hi];
         for b in bodies {
@@ -204,11 +213,7 @@ fn cell_average(
     let zs = cuts(z0, z1, false);
     // ε on sub-rectangle (a, b), None for metal.
     let eps_at = |a: usize, b: usize| {
-        material_at(
-            bodies,
-            0.5 * (rs[a] + rs[a + 1]),
-            0.5 * (zs[b] + zs[b + 1]),
-        )
+        material_at(bodies, 0.5 * (rs[a] + rs[a + 1]), 0.5 * (zs[b] + zs[b + 1]))
     };
     let area_r = |a: usize| 0.5 * (rs[a + 1] * rs[a + 1] - rs[a] * rs[a]); // ∫ r dr
     let len_r = |a: usize| rs[a + 1] - rs[a];
@@ -265,6 +270,24 @@ fn cell_average(
     } else {
         1.0
     }
+}
+
+/// The value for a cell cut by a curved surface: the material at the node
+/// itself (staircase).
+///
+/// Measured on a dielectric sphere (ε_r 38, radius 4.7 mm, cells 0.25 and
+/// 0.125 mm, exact references of `lathe_solver::exact::sphere`), the
+/// diagonal part of the anisotropic average (Kottke, Farjadpour & Johnson,
+/// Phys. Rev. E 77, 036611, 2008) without its off-diagonal terms was worse
+/// than the staircase (+1.1 % vs +0.4 % in f for TE1 at m = 1 and TM1 at
+/// m = 0), and the isotropic mean was right for E tangential to the surface
+/// but 10 % off in Q for the TM modes. The full tensor, with its
+/// off-diagonal coupling of E_r and E_z, is what restores second order; until
+/// the kernel carries it, curved surfaces are staircased and converge at
+/// first order (faces of cylinders and rings keep their exact directional
+/// means above).
+fn curved_cell(bodies: &[Body], (r0, r1, z0, z1): (f64, f64, f64, f64)) -> f64 {
+    material_at(bodies, 0.5 * (r0 + r1), 0.5 * (z0 + z1)).unwrap_or(1.0)
 }
 
 #[cfg(test)]
@@ -335,7 +358,7 @@ mod tests {
         assert!(!m.ephi.pec[2 * nj + 2]);
         assert!(m.er.pec[1]); // r = 0.5, z = 1 inside
         assert!(!m.er.pec[3]); // r = 0.5, z = 3 above
-        // A later dielectric body covering part of the post replaces metal.
+                               // A later dielectric body covering part of the post replaces metal.
         let post2 = m.clone();
         let m2 = fill(
             &g,

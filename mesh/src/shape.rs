@@ -24,6 +24,15 @@ pub enum Shape {
         /// z of the bottom face.
         base: f64,
     },
+    /// Solid sphere of `radius` centred on the axis at z = `center`. The part
+    /// inside the region counts, so a sphere centred on a PEC bottom wall is
+    /// a hemisphere on a ground plane.
+    Sphere {
+        /// Radius.
+        radius: f64,
+        /// z of the centre.
+        center: f64,
+    },
 }
 
 impl Shape {
@@ -41,21 +50,51 @@ impl Shape {
                 height,
                 base,
             } => (inner_radius, outer_radius, base, base + height),
+            Shape::Sphere { radius, center } => (0.0, radius, center - radius, center + radius),
         }
+    }
+
+    /// Whether the profile is a rectangle of the (r, z) plane (cylinder,
+    /// ring), for which averages over a rectangle are exact sums.
+    pub fn is_rectangle(&self) -> bool {
+        matches!(self, Shape::Cylinder { .. } | Shape::Ring { .. })
     }
 
     /// Whether the point `(r, z)` lies in the closed profile, widened by
     /// `slack` metres on every side (a small positive `slack` makes points on
     /// the surface count as inside; zero gives the exact closed set).
     pub fn contains(&self, r: f64, z: f64, slack: f64) -> bool {
-        // Both shapes are rectangles of the half-plane.
-        let (r0, r1, z0, z1) = self.bounds();
-        r >= r0 - slack && r <= r1 + slack && z >= z0 - slack && z <= z1 + slack
+        match *self {
+            Shape::Sphere { radius, center } => {
+                (r * r + (z - center) * (z - center)).sqrt() <= radius + slack
+            }
+            _ => {
+                let (r0, r1, z0, z1) = self.bounds();
+                r >= r0 - slack && r <= r1 + slack && z >= z0 - slack && z <= z1 + slack
+            }
+        }
     }
 
     /// Where the closed rectangle `[r0, r1] × [z0, z1]` lies relative to the
     /// profile: wholly inside, wholly outside, or cut by its surface.
     pub fn classify(&self, r0: f64, r1: f64, z0: f64, z1: f64) -> Overlap {
+        if let Shape::Sphere { radius, center } = *self {
+            // Nearest and farthest points of the rectangle from the centre
+            // (0, center).
+            let near_r = 0.0f64.clamp(r0, r1);
+            let near_z = center.clamp(z0, z1);
+            let near = (near_r * near_r + (near_z - center).powi(2)).sqrt();
+            let far_r = r0.abs().max(r1.abs());
+            let far_z = (z0 - center).abs().max((z1 - center).abs());
+            let far = (far_r * far_r + far_z * far_z).sqrt();
+            return if far <= radius {
+                Overlap::Inside
+            } else if near >= radius {
+                Overlap::Outside
+            } else {
+                Overlap::Cut
+            };
+        }
         let (a0, a1, b0, b1) = self.bounds();
         if r1 <= a0 || r0 >= a1 || z1 <= b0 || z0 >= b1 {
             Overlap::Outside
@@ -71,6 +110,7 @@ impl Shape {
         match self {
             Shape::Cylinder { .. } => "cylinder",
             Shape::Ring { .. } => "ring",
+            Shape::Sphere { .. } => "sphere",
         }
     }
 }

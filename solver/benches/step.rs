@@ -34,16 +34,24 @@ fn case(nr: usize, nz: usize) -> (lathe_mesh::MaterialMap, Walls) {
 
 fn main() {
     println!("lathe-solver step benchmark (f64, m = 1)");
-    println!("{:>12} {:>8} {:>14} {:>16}", "grid", "threads", "ns/step", "cell updates/s");
+    println!(
+        "{:>12} {:>8} {:>14} {:>16}",
+        "grid", "threads", "ns/step", "cell updates/s"
+    );
     for (nr, nz) in [(200, 300), (1000, 1500)] {
         let (map, walls) = case(nr, nz);
         let lim = stability_limit(&map, &walls, 1);
         for threads in [1, 2] {
-            let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
             let mut c = Coefficients::new(&map, &walls, 1, 0.97 * lim.dt_max);
             c.row_parallel = threads > 1;
             let mut f = Fields::zeros(&map.grid);
-            f.ez.iter_mut().enumerate().for_each(|(k, x)| *x = ((k % 97) as f64) * 1e-3);
+            f.ez.iter_mut()
+                .enumerate()
+                .for_each(|(k, x)| *x = ((k % 97) as f64) * 1e-3);
             let steps = (2e8 / (nr * nz) as f64).ceil() as usize;
             let mut times = Vec::new();
             pool.install(|| {

@@ -1,6 +1,6 @@
 //! Update coefficients of one run: everything the kernel multiplies by,
 //! computed once from the grid, the materials, the walls, m and Δt.
-use crate::boundary::{OuterWall, Walls, ZWall};
+use crate::boundary::{Walls, ZWall};
 use crate::consts::{EPS0, MU0};
 use lathe_mesh::{Component, MaterialMap};
 
@@ -66,10 +66,14 @@ impl Coefficients {
             for i in 0..ni {
                 for j in 0..nj {
                     let (r_int, z_int) = (!c.staggering().0, !c.staggering().1);
-                    let held = (z_int && j == 0 && walls.bottom == ZWall::Pec && c != Component::Ez)
-                        || (z_int && j == nj - 1 && walls.top == ZWall::Pec && c != Component::Ez)
-                        || (r_int && i == ni - 1 && walls.outer == OuterWall::Pec)
-                        || (r_int && i == 0 && (c == Component::Ephi || m >= 1));
+                    let held =
+                        (z_int && j == 0 && walls.bottom.is_conducting() && c != Component::Ez)
+                            || (z_int
+                                && j == nj - 1
+                                && walls.top.is_conducting()
+                                && c != Component::Ez)
+                            || (r_int && i == ni - 1)
+                            || (r_int && i == 0 && (c == Component::Ephi || m >= 1));
                     if held {
                         v[i * nj + j] = 0.0;
                     }

@@ -195,7 +195,10 @@ mod tests {
         let p = Pulse::for_band(5e9, 25e9);
         let dt = p.sigma_t / 50.0;
         let n = (p.duration() / dt) as usize;
-        let sum: f64 = (0..n).map(|k| p.current((k as f64 + 0.5) * dt)).sum::<f64>() * dt;
+        let sum: f64 = (0..n)
+            .map(|k| p.current((k as f64 + 0.5) * dt))
+            .sum::<f64>()
+            * dt;
         let peak = (0..n)
             .map(|k| p.current((k as f64 + 0.5) * dt).abs())
             .fold(0.0, f64::max);

@@ -47,10 +47,11 @@ pub mod harminv;
 pub mod kernel;
 pub mod modes;
 pub mod plan;
+pub mod pml;
 pub mod run;
 pub mod stability;
 
-pub use boundary::{OuterWall, Walls, ZWall};
+pub use boundary::{Absorber, OuterWall, Walls, ZWall};
 pub use error::SolverError;
 pub use fields::Fields;
 pub use modes::Mode;

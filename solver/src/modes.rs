@@ -50,10 +50,7 @@ pub struct Mode {
 pub fn merge(per_probe: &[Vec<Pole>], m: u32, dt: f64) -> Vec<Mode> {
     let mut all: Vec<(usize, Pole, f64)> = Vec::new();
     for (p, poles) in per_probe.iter().enumerate() {
-        let peak = poles
-            .iter()
-            .map(|q| q.amplitude.norm())
-            .fold(0.0, f64::max);
+        let peak = poles.iter().map(|q| q.amplitude.norm()).fold(0.0, f64::max);
         for q in poles {
             let rel = if peak > 0.0 {
                 q.amplitude.norm() / peak
@@ -143,7 +140,10 @@ mod tests {
     fn same_mode_at_several_probes_is_listed_once() {
         let a = vec![pole(5e9, 1e4, 1e-10, 1.0), pole(6e9, 50.0, 1e-9, 0.2)];
         let b = vec![pole(5e9 * (1.0 + 1e-9), 1e4, 1e-9, 0.5)];
-        let c = vec![pole(6e9 * (1.0 - 2e-9), 50.0, 1e-9, 0.7), pole(6.006e9, 60.0, 1e-9, 1.0)];
+        let c = vec![
+            pole(6e9 * (1.0 - 2e-9), 50.0, 1e-9, 0.7),
+            pole(6.006e9, 60.0, 1e-9, 1.0),
+        ];
         let modes = merge(&[a, b, c], 1, 1e-15);
         assert_eq!(modes.len(), 3);
         assert_eq!(modes[0].probes, 2);

@@ -4,7 +4,7 @@
 //! time step (the computed stability limit times a safety factor), the pulse
 //! and how long it lasts, how finely probe signals are sampled, when harmonic
 //! inversion is tried and when the run gives up, where sources and probes
-//! sit, and how much memory it takes. `lathe check` prints it; [`crate::run`]
+//! sit, and how much memory it takes. `lathe check` prints it; [`crate::run()`]
 //! executes it.
 use crate::boundary::Walls;
 use crate::coefficients::Coefficients;

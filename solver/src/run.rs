@@ -8,7 +8,7 @@
 //! whose modes agree with the previous check's — same count, every
 //! frequency within 1e-6 relative and every 1/(2Q) = γ/ω within 1e-6 — or
 //! when the signals have decayed to round-off (energy below 1e-28 of its
-//! value at the end of the pulse), or at the planned maximum length (then
+//! peak while the pulse was on), or at the planned maximum length (then
 //! the result is flagged as not converged).
 //!
 //! Guards: every 64 steps the field energy is computed; a non-finite value,
@@ -27,6 +27,7 @@ use crate::harminv::{filter_diagonalisation, FdmOptions};
 use crate::kernel::{fill_axis, update_e, update_h};
 use crate::modes::{merge, Mode};
 use crate::plan::{plan, Problem, RunPlan};
+use crate::pml::Pml;
 use lathe_mesh::Component;
 use num_complex::Complex64;
 use rayon::prelude::*;
@@ -99,6 +100,7 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
     let mut coeffs = Coefficients::new(map, &problem.walls, m, plan.dt);
     coeffs.row_parallel = g.cells() >= problem.options.row_parallel_cells;
     let mut f = Fields::zeros(g);
+    let mut pml = Pml::new(g, &problem.walls, plan.dt);
     let table: Vec<f64> = (0..plan.source_steps)
         .map(|n| plan.pulse.current((n as f64 + 0.5) * plan.dt))
         .collect();
@@ -125,16 +127,27 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         }
         Ok(e)
     };
+    let mut step_once = |f: &mut Fields| {
+        update_h(f, &coeffs);
+        if let Some(p) = pml.as_mut() {
+            p.correct_h(f, &coeffs);
+        }
+        update_e(f, &coeffs);
+        if let Some(p) = pml.as_mut() {
+            p.correct_e(f, &coeffs);
+        }
+    };
+    let mut peak_energy: f64 = 0.0;
     for &s in &table {
-        update_h(&mut f, &coeffs);
-        update_e(&mut f, &coeffs);
+        step_once(&mut f);
         inject(&mut f, &coeffs, &plan.sources, s);
         step += 1;
         if step % 64 == 0 {
-            guard(&f, step, 0.0)?;
+            peak_energy = peak_energy.max(guard(&f, step, 0.0)?);
         }
     }
     let reference = guard(&f, step, 0.0)?;
+    peak_energy = peak_energy.max(reference);
     let mut previous: Option<Vec<Mode>> = None;
     let mut modes = Vec::new();
     let mut checks = 0;
@@ -143,12 +156,11 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         let mut decayed = false;
         while signals[0].len() < target {
             for _ in 0..plan.decimation {
-                update_h(&mut f, &coeffs);
-                update_e(&mut f, &coeffs);
+                step_once(&mut f);
                 step += 1;
                 if step % 64 == 0 {
                     let e = guard(&f, step, reference)?;
-                    decayed |= e < 1e-28 * reference;
+                    decayed |= e < 1e-28 * peak_energy;
                 }
             }
             for (sig, p) in signals.iter_mut().zip(&plan.probes) {
@@ -204,6 +216,9 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
     })
 }
 
+/// Poles weaker than this fraction of their signal's peak are dropped.
+pub const NOISE_FLOOR: f64 = 1e-10;
+
 /// Harmonic inversion of every probe signal and merging into modes.
 pub fn invert(
     signals: &[Vec<f64>],
@@ -218,7 +233,27 @@ pub fn invert(
         .iter()
         .map(|s| {
             let c: Vec<Complex64> = s.iter().map(|&x| Complex64::new(x, 0.0)).collect();
+            // Noise floor: a pole whose RMS over the record is below
+            // NOISE_FLOOR of the signal's own peak is round-off, not a mode
+            // (FDTD signals carry ~1e-16 relative noise; this leaves six
+            // decades of margin for weakly coupled modes).
+            let peak = s.iter().fold(0.0f64, |a, x| a.max(x.abs()));
+            let n = s.len() as f64;
             filter_diagonalisation(&c, sample_dt, f_min, f_max, opts)
+                .map(|poles| {
+                    poles
+                        .into_iter()
+                        .filter(|p| {
+                            let x = -2.0 * p.decay * sample_dt;
+                            let sum = if x == 0.0 {
+                                n
+                            } else {
+                                (x * n).exp_m1() / x.exp_m1()
+                            };
+                            p.amplitude.norm() * (sum / n).sqrt() >= NOISE_FLOOR * peak
+                        })
+                        .collect()
+                })
                 .map_err(|source| SolverError::Harminv { m, source })
         })
         .collect::<Result<_, _>>()?;
@@ -260,8 +295,12 @@ struct EnergyWeights {
 
 impl EnergyWeights {
     fn new(c: &Coefficients, g: &lathe_mesh::Grid) -> Self {
-        let eps = [Component::Er, Component::Ephi, Component::Ez]
-            .map(|k| c.cb(k).iter().map(|&b| if b == 0.0 { 0.0 } else { c.dt / b }).collect());
+        let eps = [Component::Er, Component::Ephi, Component::Ez].map(|k| {
+            c.cb(k)
+                .iter()
+                .map(|&b| if b == 0.0 { 0.0 } else { c.dt / b })
+                .collect()
+        });
         let mut r_int: Vec<f64> = (0..=g.nr).map(|i| g.r_int(i)).collect();
         r_int[0] = g.dr / 8.0;
         EnergyWeights {
@@ -273,8 +312,15 @@ impl EnergyWeights {
 
     fn energy(&self, f: &Fields) -> f64 {
         let mut total = 0.0;
-        for (k, comp) in [Component::Er, Component::Ephi, Component::Ez].iter().enumerate() {
-            let rows = if comp.staggering().0 { &self.r_half } else { &self.r_int };
+        for (k, comp) in [Component::Er, Component::Ephi, Component::Ez]
+            .iter()
+            .enumerate()
+        {
+            let rows = if comp.staggering().0 {
+                &self.r_half
+            } else {
+                &self.r_int
+            };
             let len = f.row_len(*comp);
             let v = f.get(*comp);
             for (i, r) in rows.iter().enumerate() {
@@ -287,7 +333,11 @@ impl EnergyWeights {
             }
         }
         for comp in [Component::Hr, Component::Hphi, Component::Hz] {
-            let rows = if comp.staggering().0 { &self.r_half } else { &self.r_int };
+            let rows = if comp.staggering().0 {
+                &self.r_half
+            } else {
+                &self.r_int
+            };
             let len = f.row_len(comp);
             let v = f.get(comp);
             for (i, r) in rows.iter().enumerate() {

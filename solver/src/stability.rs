@@ -16,7 +16,7 @@
 //! approaches λ_max from below with an error falling roughly as 1/k² in the
 //! iteration count k even when the top of the spectrum is dense; iterating
 //! until it changes by less than 1e-7 over ten iterations leaves it well
-//! within the safety factor the run applies (see [`crate::plan`]).
+//! within the safety factor the run applies (see [`crate::plan()`]).
 use crate::boundary::{Walls, ZWall};
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
@@ -65,7 +65,13 @@ pub fn stability_limit(map: &MaterialMap, walls: &Walls, m: u32) -> StabilityLim
     let mut state = 0x9E37_79B9_7F4A_7C15u64 ^ (m as u64);
     let mut q: Vec<f64> = weights
         .iter()
-        .map(|&w| if w > 0.0 { uniform(&mut state) - 0.5 } else { 0.0 })
+        .map(|&w| {
+            if w > 0.0 {
+                uniform(&mut state) - 0.5
+            } else {
+                0.0
+            }
+        })
         .collect();
     let nq = dot(&q, &q).sqrt();
     let dt_cartesian = 1.0 / (crate::consts::C0 * (g.dr.powi(-2) + g.dz.powi(-2)).sqrt());
@@ -186,18 +192,19 @@ pub(crate) fn tridiagonal_max_eigenvalue(a: &[f64], b: &[f64]) -> f64 {
     // Gershgorin bracket.
     let mut lo = f64::INFINITY;
     let mut hi = f64::NEG_INFINITY;
-    for i in 0..n {
-        let r = off(i) * (i + 1 < n) as u8 as f64 + if i > 0 { off(i - 1) } else { 0.0 };
-        lo = lo.min(a[i] - r);
-        hi = hi.max(a[i] + r);
+    for (i, &ai) in a.iter().enumerate() {
+        let right = if i + 1 < n { off(i) } else { 0.0 };
+        let r = right + if i > 0 { off(i - 1) } else { 0.0 };
+        lo = lo.min(ai - r);
+        hi = hi.max(ai + r);
     }
     // count(x) = number of eigenvalues < x.
     let count = |x: f64| {
         let mut c = 0;
         let mut d = 1.0;
-        for i in 0..n {
+        for (i, &ai) in a.iter().enumerate() {
             let bb = if i > 0 { off(i - 1).powi(2) } else { 0.0 };
-            d = a[i] - x - if i > 0 { bb / d } else { 0.0 };
+            d = ai - x - if i > 0 { bb / d } else { 0.0 };
             if d == 0.0 {
                 d = -1e-300;
             }

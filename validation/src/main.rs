@@ -22,7 +22,8 @@ fn root() -> PathBuf {
 
 fn load(name: &str, cell: Option<f64>) -> Result<Scenario> {
     let path = root().join("cases").join(name);
-    let text = std::fs::read_to_string(&path).with_context(|| format!("reading {}", path.display()))?;
+    let text =
+        std::fs::read_to_string(&path).with_context(|| format!("reading {}", path.display()))?;
     let mut s = Scenario::parse(&text, name).map_err(|e| anyhow::anyhow!("{e}"))?;
     if let Some(c) = cell {
         s.cell = Some(c * 1e-3);
@@ -34,6 +35,7 @@ fn wall(w: ZWall) -> EndWall {
     match w {
         ZWall::Pec => EndWall::Pec,
         ZWall::Pmc => EndWall::Pmc,
+        ZWall::Pml(_) => panic!("closed cavities only"),
     }
 }
 
@@ -75,7 +77,10 @@ fn cavity_case(out: &mut String, file: &str, source: &str, tot: &mut Totals) -> 
         "### `{file}`\n\nSource: {source}. Default resolution ({} × {} cells of {:.4} × {:.4} mm), {:.2} s, {:.3e} cell updates. Acceptance: every mode found, none spurious, |error| < 0.5 %.\n",
         g.nr, g.nz, g.dr * 1e3, g.dz * 1e3, secs, updates as f64
     )?;
-    writeln!(out, "| m | mode | reference (GHz) | computed (GHz) | error | est. HI error |")?;
+    writeln!(
+        out,
+        "| m | mode | reference (GHz) | computed (GHz) | error | est. HI error |"
+    )?;
     writeln!(out, "|---|---|---|---|---|---|")?;
     for r in &runs {
         let m = r.report.m;
@@ -86,7 +91,8 @@ fn cavity_case(out: &mut String, file: &str, source: &str, tot: &mut Totals) -> 
                 Some(c) => {
                     let e = x.rel_error().unwrap();
                     if e.abs() >= 5e-3 {
-                        tot.failures.push(format!("{file} m={m} {}: {:.3} %", x.label, 100.0 * e));
+                        tot.failures
+                            .push(format!("{file} m={m} {}: {:.3} %", x.label, 100.0 * e));
                     }
                     writeln!(
                         out,
@@ -99,15 +105,29 @@ fn cavity_case(out: &mut String, file: &str, source: &str, tot: &mut Totals) -> 
                     )?;
                 }
                 None => {
-                    tot.failures.push(format!("{file} m={m} {} missing", x.label));
-                    writeln!(out, "| {m} | {} | {:.6} | **missing** | | |", x.label, x.reference_hz / 1e9)?;
+                    tot.failures
+                        .push(format!("{file} m={m} {} missing", x.label));
+                    writeln!(
+                        out,
+                        "| {m} | {} | {:.6} | **missing** | | |",
+                        x.label,
+                        x.reference_hz / 1e9
+                    )?;
                 }
             }
         }
         for sp in spurious {
             tot.checks += 1;
-            tot.failures.push(format!("{file} m={m}: spurious {:.6} GHz", sp.freq_hz / 1e9));
-            writeln!(out, "| {m} | **spurious** | | {:.6} | | {:.1e} |", sp.freq_hz / 1e9, sp.error)?;
+            tot.failures.push(format!(
+                "{file} m={m}: spurious {:.6} GHz",
+                sp.freq_hz / 1e9
+            ));
+            writeln!(
+                out,
+                "| {m} | **spurious** | | {:.6} | | {:.1e} |",
+                sp.freq_hz / 1e9,
+                sp.error
+            )?;
         }
     }
     writeln!(out)?;
@@ -140,13 +160,19 @@ fn convergence_case(out: &mut String, tot: &mut Totals) -> Result<()> {
     writeln!(out, "| m | mode | error, 0.4 mm | error, 0.2 mm | error, 0.1 mm | ratio 0.4/0.2 | ratio 0.2/0.1 |")?;
     writeln!(out, "|---|---|---|---|---|---|---|")?;
     for (m, label, e0) in &errs[0] {
-        let find = |k: usize| errs[k].iter().find(|x| x.0 == *m && &x.1 == label).map(|x| x.2);
+        let find = |k: usize| {
+            errs[k]
+                .iter()
+                .find(|x| x.0 == *m && &x.1 == label)
+                .map(|x| x.2)
+        };
         if let (Some(e1), Some(e2)) = (find(1), find(2)) {
             let (r1, r2) = (e0 / e1, e1 / e2);
             for r in [r1, r2] {
                 tot.checks += 1;
                 if !(3.5..=4.5).contains(&r) {
-                    tot.failures.push(format!("convergence m={m} {label}: ratio {r:.3}"));
+                    tot.failures
+                        .push(format!("convergence m={m} {label}: ratio {r:.3}"));
                 }
             }
             writeln!(
@@ -170,14 +196,18 @@ fn puck_case(out: &mut String, tot: &mut Totals) -> Result<()> {
     for c in cells {
         let s = load(file, Some(c))?;
         let (runs, _) = run(&s)?;
-        freqs.push(runs.iter().map(|r| r.modes.iter().map(|m| m.freq_hz).collect()).collect());
+        freqs.push(
+            runs.iter()
+                .map(|r| r.modes.iter().map(|m| m.freq_hz).collect())
+                .collect(),
+        );
     }
     writeln!(
         out,
-        "### `{file}`\n\nNo closed form. Checks: convergence under refinement (cells {cells:?} mm, every face on a grid line), and agreement of filter diagonalisation with the matrix pencil on the same probe signals. Ratio = (f(h) − f(h/2)) / (f(h/2) − f(h/4)); 4 means second order. Richardson value f(h/2) + (f(h/2) − f(h))/3 from the two finest grids.\n"
+        "### `{file}`\n\nNo closed form. Checks: convergence under refinement (cells {cells:?} mm, every face on a grid line), and agreement of filter diagonalisation with the matrix pencil on the same probe signals. Ratio = (f(h) − f(h/2)) / (f(h/2) − f(h/4)); 4 means second order, and the observed order is p = log2(ratio) of the finest triple. The extrapolated value uses that observed order: f(h/2) + (f(h/2) − f(h))/(2^p − 1). The m = 0 TE mode (E_φ only, tangential to every face) converges at second order; the modes with E normal to a face meet the field singularity at the puck's 90° dielectric edges (Van Bladel, *Singular Electromagnetic Fields and Sources*, 1991 — from memory), which lowers the order to about 1.5 here; acceptance for those: ratio ≥ 2.5.\n"
     )?;
-    writeln!(out, "| m | mode | f, 0.4 mm | f, 0.2 mm | f, 0.1 mm | f, 0.05 mm | ratios | Richardson (GHz) |")?;
-    writeln!(out, "|---|---|---|---|---|---|---|---|")?;
+    writeln!(out, "| m | mode | f, 0.4 mm | f, 0.2 mm | f, 0.1 mm | f, 0.05 mm | ratios | order | extrapolated (GHz) |")?;
+    writeln!(out, "|---|---|---|---|---|---|---|---|---|")?;
     let s = load(file, None)?;
     for (k, m) in s.m.iter().enumerate() {
         let n = freqs.iter().map(|l| l[k].len()).min().unwrap_or(0);
@@ -185,10 +215,11 @@ fn puck_case(out: &mut String, tot: &mut Totals) -> Result<()> {
             let f: Vec<f64> = freqs.iter().map(|l| l[k][q]).collect();
             let r1 = (f[0] - f[1]) / (f[1] - f[2]);
             let r2 = (f[1] - f[2]) / (f[2] - f[3]);
-            let rich = f[3] + (f[3] - f[2]) / 3.0;
+            let order = r2.log2();
+            let rich = f[3] + (f[3] - f[2]) / (r2 - 1.0);
             writeln!(
                 out,
-                "| {m} | {q} | {:.6} | {:.6} | {:.6} | {:.6} | {r1:.2}, {r2:.2} | {:.6} |",
+                "| {m} | {q} | {:.6} | {:.6} | {:.6} | {:.6} | {r1:.2}, {r2:.2} | {order:.2} | {:.6} |",
                 f[0] / 1e9,
                 f[1] / 1e9,
                 f[2] / 1e9,
@@ -196,8 +227,9 @@ fn puck_case(out: &mut String, tot: &mut Totals) -> Result<()> {
                 rich / 1e9
             )?;
             tot.checks += 1;
-            if !(r2 >= 2.5) {
-                tot.failures.push(format!("puck m={m} mode {q}: ratio {r2:.2}"));
+            if r2.is_nan() || r2 < 2.5 {
+                tot.failures
+                    .push(format!("puck m={m} mode {q}: ratio {r2:.2}"));
             }
         }
     }
@@ -223,8 +255,9 @@ fn puck_case(out: &mut String, tot: &mut Totals) -> Result<()> {
         }
     }
     tot.checks += 1;
-    if !(worst < 1e-8) {
-        tot.failures.push(format!("puck estimators differ by {worst:e}"));
+    if worst.is_nan() || worst >= 1e-8 {
+        tot.failures
+            .push(format!("puck estimators differ by {worst:e}"));
     }
     writeln!(
         out,
@@ -243,8 +276,18 @@ fn main() -> Result<()> {
     let cav_src = "exact TE/TM resonances of a closed PEC cylinder (Pozar, *Microwave Engineering*, §6.3), Bessel zeros from `lathe_solver::exact` (checked against Abramowitz & Stegun Table 9.5)";
     let mut body = String::new();
     cavity_case(&mut body, "empty_cavity.toml", cav_src, &mut tot)?;
-    cavity_case(&mut body, "filled_half_cavity.toml", &format!("{cav_src}; PMC end: p = ½, 3/2, …"), &mut tot)?;
-    cavity_case(&mut body, "pmc_slab_cavity.toml", &format!("{cav_src}; PMC ends: TE with p = 0"), &mut tot)?;
+    cavity_case(
+        &mut body,
+        "filled_half_cavity.toml",
+        &format!("{cav_src}; PMC end: p = ½, 3/2, …"),
+        &mut tot,
+    )?;
+    cavity_case(
+        &mut body,
+        "pmc_slab_cavity.toml",
+        &format!("{cav_src}; PMC ends: TE with p = 0"),
+        &mut tot,
+    )?;
     convergence_case(&mut body, &mut tot)?;
     puck_case(&mut body, &mut tot)?;
     writeln!(out, "# lathe validation report\n")?;
@@ -266,7 +309,12 @@ fn main() -> Result<()> {
     out.push_str(&body);
     let path = root().join("REPORT.md");
     std::fs::write(&path, &out)?;
-    println!("{}: {} checks, {} failed", path.display(), tot.checks, tot.failures.len());
+    println!(
+        "{}: {} checks, {} failed",
+        path.display(),
+        tot.checks,
+        tot.failures.len()
+    );
     if !tot.failures.is_empty() {
         anyhow::bail!("validation failed: {:?}", tot.failures);
     }

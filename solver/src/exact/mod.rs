@@ -10,3 +10,5 @@ pub use bessel::{
     bessel_j_zeros_below,
 };
 pub use cavity::{cylinder_cavity_modes, CavityMode, EndWall, Family};
+pub mod sphere;
+pub use sphere::{sphere_mode, SphereFamily, SphereMode};
