@@ -13,7 +13,12 @@
 //! 2. The cluster's figures are those of its pole with the smallest error
 //!    estimate; its reported error is the larger of that estimate and the
 //!    spread of the cluster's well-determined poles (error within 10× the best).
-//! 3. The leapfrog scheme maps an exact mode of the spatial operator,
+//! 3. A cluster seen by a single probe, when three or more probes ran, is
+//!    kept only if its error estimate is below 1e-8: a true mode with nodes
+//!    at all probes but one is still resolved cleanly there, while the fits
+//!    harmonic inversion makes to the early transient of one signal (weak,
+//!    very low Q, error ~1e-5) are not repeated at other probes.
+//! 4. The leapfrog scheme maps an exact mode of the spatial operator,
 //!    ω, to a sampled rotation θ = ω̃Δt with sin(θ/2) = ωΔt/2. The poles give
 //!    ω̃; the reported mode is ω = (2/Δt) sin(ω̃Δt/2) (complex), which removes
 //!    the time-discretisation error and leaves only the spatial one.
@@ -79,8 +84,10 @@ pub fn merge(per_probe: &[Vec<Pole>], m: u32, dt: f64) -> Vec<Mode> {
             clusters.push(vec![item]);
         }
     }
+    let probes_run = per_probe.len();
     clusters
         .iter()
+        .filter(|c| probes_run < 3 || c.len() >= 2 || best_of(c).error < 1e-8)
         .map(|c| {
             let best = best_of(c);
             let spread = c
