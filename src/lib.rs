@@ -45,6 +45,7 @@
 pub mod output;
 pub mod reference;
 pub mod scenario;
+pub mod study;
 
 pub use lathe_mesh as mesh;
 pub use lathe_solver as solver;

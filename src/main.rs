@@ -5,7 +5,7 @@
 use clap::{Parser, Subcommand};
 use lathe::output;
 use lathe::scenario::{Scenario, ScenarioError};
-use lathe::solver::solve;
+use lathe::study::{run_study, StudyError};
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -86,6 +86,19 @@ fn load(file: &PathBuf, m: &Option<Vec<u32>>) -> Result<Scenario, Failure> {
     Ok(s)
 }
 
+fn failure(e: StudyError, name: &str) -> Failure {
+    match e {
+        StudyError::Input(e) => Failure::Input(
+            ScenarioError {
+                file: name.to_string(),
+                ..e
+            }
+            .to_string(),
+        ),
+        StudyError::Run(e) => Failure::Run(e.to_string()),
+    }
+}
+
 fn problem_of(s: &Scenario, name: &str) -> Result<lathe::solver::Problem, Failure> {
     s.problem().map_err(|e: ScenarioError| {
         Failure::Input(
@@ -102,11 +115,8 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
     match cli.command {
         Command::Check { file, m } => {
             let s = load(&file, &m)?;
-            let problem = problem_of(&s, &file.display().to_string())?;
-            print!(
-                "{}",
-                output::plan_text(&s, &problem).map_err(|e| Failure::Run(e.to_string()))?
-            );
+            let name = file.display().to_string();
+            print!("{}", output::plan_text(&s).map_err(|e| failure(e, &name))?);
             Ok(())
         }
         Command::Modes {
@@ -117,7 +127,8 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             quiet,
         } => {
             let s = load(&file, &m)?;
-            let problem = problem_of(&s, &file.display().to_string())?;
+            let name = file.display().to_string();
+            let problem = problem_of(&s, &name)?;
             if let Some(n) = threads {
                 if n == 0 {
                     return Err(Failure::Input("--threads must be at least 1".into()));
@@ -140,9 +151,11 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                     s.f_max / 1e9
                 );
             }
-            let runs = pool
-                .install(|| solve(&problem, &s.m))
-                .map_err(|e| Failure::Run(e.to_string()))?;
+            let study = pool
+                .install(|| run_study(&s))
+                .map_err(|e| failure(e, &name))?;
+            let runs: Vec<&lathe::solver::RunOutput> =
+                study.runs.iter().map(|r| &r.output).collect();
             for r in &runs {
                 if !r.report.converged && !quiet {
                     eprintln!(
@@ -160,9 +173,9 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                     "a mode came out with a non-finite figure; this is a bug, please report the scenario".into(),
                 ));
             }
-            print!("{}", output::table(&runs));
+            print!("{}", output::table(&study));
             if let Some(path) = json {
-                let doc = serde_json::to_string_pretty(&output::json(&runs))
+                let doc = serde_json::to_string_pretty(&output::json(&study))
                     .expect("JSON of plain numbers");
                 if path.as_os_str() == "-" {
                     println!("{doc}");

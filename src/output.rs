@@ -3,15 +3,9 @@
 //! Units at this edge: GHz and mm in the table, SI (Hz, s, m) in the JSON
 //! except for the cell sizes, which carry their unit in the key
 //! (`cell_r_mm`).
-use lathe_solver::{Mode, RunOutput};
+use crate::study::Study;
+use lathe_solver::{Mode, ZWall};
 use serde_json::{json, Value};
-
-/// Every mode of every run, sorted by frequency (then m).
-pub fn all_modes(runs: &[RunOutput]) -> Vec<Mode> {
-    let mut v: Vec<Mode> = runs.iter().flat_map(|r| r.modes.iter().cloned()).collect();
-    v.sort_by(|a, b| a.freq_hz.total_cmp(&b.freq_hz).then(a.m.cmp(&b.m)));
-    v
-}
 
 /// Q as printed: a number, with "≥" when it is a lower bound.
 pub fn q_text(m: &Mode) -> String {
@@ -24,30 +18,49 @@ pub fn q_text(m: &Mode) -> String {
     }
 }
 
-/// The mode table as text.
-pub fn table(runs: &[RunOutput]) -> String {
+fn plane_name(p: Option<ZWall>) -> &'static str {
+    match p {
+        Some(ZWall::Pec) => "pec",
+        Some(ZWall::Pmc) => "pmc",
+        _ => "",
+    }
+}
+
+/// The mode table as text. When the structure was solved as two halves the
+/// `plane` column says which family each mode belongs to (`pec`: E
+/// tangential zero on the mid-plane; `pmc`: H tangential zero).
+pub fn table(study: &Study) -> String {
+    let halves = study.runs.iter().any(|r| r.plane.is_some());
     let mut s = String::new();
-    s.push_str("  m      f (GHz)            Q      error   amplitude\n");
-    for m in all_modes(runs) {
+    s.push_str("  m  mode            f (GHz)            Q      error   amplitude");
+    s.push_str(if halves { "  plane\n" } else { "\n" });
+    for (m, plane) in study.modes() {
         s.push_str(&format!(
-            "{:>3}  {:>11.6}  {:>11}  {:>9.1e}  {:>10.3}\n",
+            "{:>3}  {:<12}  {:>11.6}  {:>11}  {:>9.1e}  {:>10.3}",
             m.m,
+            m.label,
             m.freq_hz / 1e9,
             q_text(&m),
             m.error,
             m.amplitude
         ));
+        if halves {
+            s.push_str(&format!("  {}", plane_name(plane)));
+        }
+        s.push('\n');
     }
     s
 }
 
 /// The JSON document: `{"modes": [...], "runs": [...]}`.
-pub fn json(runs: &[RunOutput]) -> Value {
-    let modes: Vec<Value> = all_modes(runs)
+pub fn json(study: &Study) -> Value {
+    let modes: Vec<Value> = study
+        .modes()
         .iter()
-        .map(|m| {
+        .map(|(m, plane)| {
             json!({
                 "m": m.m,
+                "label": m.label,
                 "freq_hz": m.freq_hz,
                 "q": m.q,
                 "q_is_lower_bound": m.q_is_lower_bound,
@@ -55,15 +68,18 @@ pub fn json(runs: &[RunOutput]) -> Value {
                 "error": m.error,
                 "amplitude": m.amplitude,
                 "probes": m.probes,
+                "plane": plane.map(|_| plane_name(*plane)),
             })
         })
         .collect();
-    let runs: Vec<Value> = runs
+    let runs: Vec<Value> = study
+        .runs
         .iter()
         .map(|r| {
-            let p = &r.report;
+            let p = &r.output.report;
             json!({
                 "m": p.m,
+                "plane": r.plane.map(|_| plane_name(r.plane)),
                 "nr": p.nr,
                 "nz": p.nz,
                 "cell_r_mm": p.dr * 1e3,
@@ -84,7 +100,27 @@ pub fn json(runs: &[RunOutput]) -> Value {
 }
 
 /// The plan of every run of `scenario`, as text (what `lathe check` prints).
-pub fn plan_text(
+pub fn plan_text(scenario: &crate::scenario::Scenario) -> Result<String, crate::study::StudyError> {
+    use crate::study::{problems, StudyError};
+    let mut s = String::new();
+    let probs = problems(scenario).map_err(StudyError::Input)?;
+    if probs.len() == 2 {
+        s.push_str("symmetry    the structure is symmetric about z = ");
+        s.push_str(&format!(
+            "{:.4} mm: solved as its upper half over a PEC and over a PMC plane\n",
+            probs[0].1.z_min * 1e3
+        ));
+    }
+    for (plane, sc, problem) in &probs {
+        if let Some(p) = plane {
+            s.push_str(&format!("half        mid-plane {}\n", plane_name(Some(*p))));
+        }
+        s.push_str(&plan_one(sc, problem).map_err(StudyError::Run)?);
+    }
+    Ok(s)
+}
+
+fn plan_one(
     scenario: &crate::scenario::Scenario,
     problem: &lathe_solver::Problem,
 ) -> Result<String, lathe_solver::SolverError> {

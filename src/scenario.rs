@@ -37,6 +37,8 @@
 //! f_min = 5.0              # GHz
 //! f_max = 25.0
 //! max_periods = 4000       # optional: longest ring-down, in periods of f_min
+//! symmetry = "auto"        # optional: "auto" solves a mid-plane-symmetric isolated
+//!                          # structure as two halves (PEC, PMC); "none" the whole
 //! ```
 use lathe_mesh::{fill, Body, FillOptions, Grid, Material, Shape};
 use lathe_solver::consts::C0;
@@ -108,6 +110,9 @@ pub struct Scenario {
     pub f_max: f64,
     /// Longest ring-down in periods of f_min.
     pub max_periods: Option<f64>,
+    /// Solve a mid-plane-symmetric isolated structure as two halves
+    /// (`search.symmetry = "auto"`, the default; "none" turns it off).
+    pub use_symmetry: bool,
 }
 
 struct Reader<'a> {
@@ -431,7 +436,22 @@ impl Scenario {
                 Some("add [search] with m = [..], f_min and f_max (GHz)".into()),
             )
         })?;
-        rd.check_keys(search, "search", &["m", "f_min", "f_max", "max_periods"])?;
+        rd.check_keys(
+            search,
+            "search",
+            &["m", "f_min", "f_max", "max_periods", "symmetry"],
+        )?;
+        let use_symmetry = match rd.string(search, "symmetry", "search.symmetry")? {
+            None | Some("auto") => true,
+            Some("none") => false,
+            Some(other) => {
+                return Err(rd.err(
+                    "search.symmetry",
+                    format!("unknown value \"{other}\"; allowed: \"auto\", \"none\""),
+                    None,
+                ))
+            }
+        };
         let m = match search.get("m") {
             None => vec![0, 1, 2],
             Some(v) => read_orders(&rd, v, "search.m")?,
@@ -534,6 +554,7 @@ impl Scenario {
             f_min: f_min * GHZ,
             f_max: f_max * GHZ,
             max_periods,
+            use_symmetry,
         })
     }
 

@@ -34,6 +34,10 @@ fn shipped_example_runs_and_writes_json() {
         for key in ["m", "freq_hz", "q", "error", "amplitude"] {
             assert!(m[key].is_number(), "mode lacks {key}: {m}");
         }
+        assert!(
+            m["label"].as_str().is_some_and(|l| !l.is_empty()),
+            "mode lacks a label: {m}"
+        );
         let f = m["freq_hz"].as_f64().unwrap();
         assert!((3.5e9..=8.0e9).contains(&f));
     }
@@ -58,8 +62,9 @@ fn shipped_example_runs_and_writes_json() {
             r["nr"].as_f64().unwrap() * r["nz"].as_f64().unwrap() * r["steps"].as_f64().unwrap();
         assert_eq!(cu, expect, "cell_updates = cells × steps");
     }
-    // The lowest mode of this puck is m = 0 (its comment says so).
+    // The lowest mode of this puck is its TE01δ (its comment says so).
     assert_eq!(modes[0]["m"].as_u64(), Some(0));
+    assert_eq!(modes[0]["label"].as_str(), Some("TE01δ"));
 }
 
 #[test]

@@ -47,6 +47,9 @@ pub struct Mode {
     pub amplitude: f64,
     /// How many probes saw the mode.
     pub probes: usize,
+    /// The trade's name (TE01δ, TM01δ, HEM11δ, …), set by [`label_modes`];
+    /// empty until then.
+    pub label: String,
 }
 
 /// Merges per-probe pole lists (already accepted by the estimator) into
@@ -111,9 +114,70 @@ pub fn merge(per_probe: &[Vec<Pole>], m: u32, dt: f64) -> Vec<Mode> {
                 error,
                 amplitude: c.iter().map(|x| x.2).fold(0.0, f64::max),
                 probes: c.len(),
+                label: String::new(),
             }
         })
         .collect()
+}
+
+/// Field family of an m = 0 mode, from the share of its energy in E_φ, H_r,
+/// H_z (which decouple exactly from E_r, E_z, H_φ at m = 0).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Family {
+    /// TE share ≥ 0.9.
+    Te,
+    /// TE share ≤ 0.1.
+    Tm,
+    /// In between (leakage from a nearby mode), or unknown.
+    Unclear,
+}
+
+/// Names every mode of a structure with the trade's labels.
+///
+/// `modes` holds every mode found for the structure — all orders m, and
+/// both symmetry families when the structure was split by a symmetry plane —
+/// each with its m = 0 family (ignored for m ≥ 1). Rule:
+///
+/// - m = 0: `TE0nδ` or `TM0nδ` by family, n = rank by frequency among the
+///   m = 0 modes of that family; a mode whose family is unclear is
+///   `TE/TM0nδ?`, ranked among the unclear ones.
+/// - m ≥ 1: `HEMmnδ`, n = rank by frequency among the modes of that m, over
+///   both symmetry families (this reproduces the usual names of an isolated
+///   cylinder: HEM11δ below HEM12δ, one in each family).
+/// - Two-digit indices are written `HEM(12,3)δ`.
+///
+/// n counts from f_min: a mode below the band is not counted, so widen the
+/// band down to the fundamental when the numbering matters. The δ says the
+/// field varies along z without a whole number of half-waves, as in an
+/// open or partly filled structure; for an empty closed cavity the exact
+/// TE_mnp/TM_mnp names are the right ones (see `exact::cavity`).
+pub fn label_modes(modes: &mut [(&mut Mode, Family)]) {
+    let mut order: Vec<usize> = (0..modes.len()).collect();
+    order.sort_by(|&a, &b| modes[a].0.freq_hz.total_cmp(&modes[b].0.freq_hz));
+    let mut counts: std::collections::HashMap<(u32, u8), usize> = Default::default();
+    for k in order {
+        let (mode, fam) = &mut modes[k];
+        let key = if mode.m == 0 {
+            (0, *fam as u8)
+        } else {
+            (mode.m, 255)
+        };
+        let n = counts.entry(key).or_insert(0);
+        *n += 1;
+        let idx = |m: u32, n: usize| {
+            if m < 10 && n < 10 {
+                format!("{m}{n}")
+            } else {
+                format!("({m},{n})")
+            }
+        };
+        mode.label = match (mode.m, *fam) {
+            (0, Family::Te) => format!("TE{}δ", idx(0, *n)),
+            (0, Family::Tm) => format!("TM{}δ", idx(0, *n)),
+            (0, Family::Unclear) => format!("TE/TM{}δ?", idx(0, *n)),
+            (m, _) => format!("HEM{}δ", idx(m, *n)),
+        };
+    }
 }
 
 fn best_of(c: &[(usize, Pole, f64)]) -> Pole {
@@ -158,6 +222,44 @@ mod tests {
         assert_eq!(modes[2].probes, 1);
         assert!((modes[1].amplitude - 0.7).abs() < 1e-12);
         assert!(modes[1].error >= 2e-9 * 0.99);
+    }
+
+    #[test]
+    fn labels_follow_the_documented_counting() {
+        let mk = |m: u32, f: f64| Mode {
+            m,
+            freq_hz: f,
+            decay: 0.0,
+            q: 1.0,
+            q_is_lower_bound: false,
+            error: 0.0,
+            amplitude: 1.0,
+            probes: 1,
+            label: String::new(),
+        };
+        let mut v = [
+            mk(0, 4.86e9),
+            mk(1, 6.34e9),
+            mk(1, 6.65e9),
+            mk(0, 7.53e9),
+            mk(2, 7.76e9),
+            mk(0, 8.3e9),
+        ];
+        let fams = [
+            Family::Te,
+            Family::Tm,
+            Family::Tm,
+            Family::Tm,
+            Family::Tm,
+            Family::Unclear,
+        ];
+        let mut refs: Vec<(&mut Mode, Family)> = v.iter_mut().zip(fams).collect();
+        label_modes(&mut refs);
+        let labels: Vec<&str> = v.iter().map(|m| m.label.as_str()).collect();
+        assert_eq!(
+            labels,
+            ["TE01δ", "HEM11δ", "HEM12δ", "TM01δ", "HEM21δ", "TE/TM01δ?"]
+        );
     }
 
     #[test]

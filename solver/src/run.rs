@@ -25,6 +25,7 @@ use crate::fields::Fields;
 use crate::fpu::FlushSubnormals;
 use crate::harminv::{filter_diagonalisation, FdmOptions};
 use crate::kernel::{fill_axis, update_e, update_h};
+use crate::modefield::{Accumulator, ModeField};
 use crate::modes::{merge, Mode};
 use crate::plan::{plan, Problem, RunPlan};
 use crate::pml::Pml;
@@ -77,17 +78,61 @@ pub struct RunOutput {
     pub signals: Vec<Vec<f64>>,
     /// Fields at the last step (axis values filled in).
     pub fields: Fields,
+    /// The field of each mode (same order as `modes`), from a running
+    /// transform over the ring-down; `None` where memory did not allow one.
+    pub mode_fields: Vec<Option<ModeField>>,
 }
 
-/// Plans and runs every order of `ms` in parallel (rayon). Each run is
-/// sequential and self-contained, so results are identical for any number
-/// of threads; the first failing order (in the order of `ms`) is returned.
+/// Plans and runs every order of `ms` in parallel (rayon), and labels the
+/// modes ([`label_runs`]). Each run is sequential and self-contained, so
+/// results are identical for any number of threads; the first failing order
+/// (in the order of `ms`) is returned.
 pub fn solve(problem: &Problem, ms: &[u32]) -> Result<Vec<RunOutput>, SolverError> {
     let results: Vec<Result<RunOutput, SolverError>> = ms
         .par_iter()
         .map(|&m| plan(problem, m).and_then(|p| run(problem, &p)))
         .collect();
-    results.into_iter().collect()
+    let mut runs: Vec<RunOutput> = results.into_iter().collect::<Result<_, _>>()?;
+    label_runs(
+        &mut runs
+            .iter_mut()
+            .map(|r| (r, &problem.materials))
+            .collect::<Vec<_>>(),
+    );
+    Ok(runs)
+}
+
+/// Labels the modes of all `runs` of one structure together (e.g. both
+/// symmetry halves), each run with the materials it was solved on
+/// (see [`crate::modes::label_modes`] for the rule).
+pub fn label_runs(runs: &mut [(&mut RunOutput, &lathe_mesh::MaterialMap)]) {
+    use crate::modes::{label_modes, Family};
+    let mut all: Vec<(&mut Mode, Family)> = Vec::new();
+    for (r, map) in runs.iter_mut() {
+        let eps = [&map.er.eps_r[..], &map.ephi.eps_r[..], &map.ez.eps_r[..]];
+        let fams: Vec<Family> = r
+            .mode_fields
+            .iter()
+            .zip(&r.modes)
+            .map(|(mf, md)| match mf {
+                Some(mf) if md.m == 0 => {
+                    let te = crate::modefield::te_fraction(mf, &map.grid, &eps);
+                    if te >= 0.9 {
+                        Family::Te
+                    } else if te <= 0.1 {
+                        Family::Tm
+                    } else {
+                        Family::Unclear
+                    }
+                }
+                _ => Family::Unclear,
+            })
+            .collect();
+        for (md, fam) in r.modes.iter_mut().zip(fams) {
+            all.push((md, fam));
+        }
+    }
+    label_modes(&mut all);
 }
 
 /// Runs `plan` on `problem`.
@@ -148,11 +193,31 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
     }
     let reference = guard(&f, step, 0.0)?;
     peak_energy = peak_energy.max(reference);
+    let mut accs: Vec<Accumulator> = Vec::new();
+    let acc_cap = crate::modefield::MAX_BYTES / Accumulator::bytes(&f).max(1);
+    // The frequency a mode rings at on the grid (before the leapfrog
+    // correction of `modes`), where its running transform must be taken.
+    let sampled = |m: &Mode| {
+        let w = 2.0 * std::f64::consts::PI * m.freq_hz;
+        2.0 * (w * plan.dt / 2.0).min(1.0).asin() / (2.0 * std::f64::consts::PI * plan.dt)
+    };
     let mut previous: Option<Vec<Mode>> = None;
     let mut modes = Vec::new();
     let mut checks = 0;
     let mut converged = false;
-    for target in plan.checks() {
+    // Scout checks early in the ring-down only open running transforms, so
+    // that strongly damped modes are transformed while they still ring.
+    let scouts: Vec<usize> = [8, 4, 2]
+        .iter()
+        .map(|d| plan.first_check / d)
+        .filter(|&n| n >= 32)
+        .collect();
+    let schedule: Vec<(usize, bool)> = scouts
+        .iter()
+        .map(|&n| (n, true))
+        .chain(plan.checks().into_iter().map(|n| (n, false)))
+        .collect();
+    for (target, scout) in schedule {
         let mut decayed = false;
         while signals[0].len() < target {
             for _ in 0..plan.decimation {
@@ -166,8 +231,14 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
             for (sig, p) in signals.iter_mut().zip(&plan.probes) {
                 sig.push(read(&f, p));
             }
+            let t = step as f64 * plan.dt;
+            for a in accs.iter_mut() {
+                a.add(&f, t, plan.dt);
+            }
         }
-        checks += 1;
+        if !scout {
+            checks += 1;
+        }
         let found = crate::fpu::with_gradual_underflow(|| {
             invert(
                 &signals,
@@ -179,6 +250,16 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
                 &problem.options.fdm,
             )
         })?;
+        for md in &found {
+            let fs = sampled(md);
+            let known = accs.iter().any(|a| (a.freq_hz / fs - 1.0).abs() < 1e-5);
+            if !known && accs.len() < acc_cap {
+                accs.push(Accumulator::new(fs, &f));
+            }
+        }
+        if scout {
+            continue;
+        }
         let agree = previous.as_ref().is_some_and(|p| same_modes(p, &found));
         modes = found;
         if agree {
@@ -191,6 +272,48 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         }
         previous = Some(modes.clone());
     }
+    // Modes first seen at the last check have had no transform yet: ring on
+    // for a short stretch (a quarter of the first check's length) so each
+    // gets one. These steps are counted like any other.
+    // A transform matches a mode within its half bandwidth (1/2Q), at least
+    // 1e-4: scouts see the frequency roughly, which is enough over the few
+    // periods a damped mode rings.
+    let matches = |a: &Accumulator, md: &Mode| {
+        let tol = (0.5 / md.q.max(1.0)).max(1e-4);
+        a.samples() > 0 && (a.freq_hz / sampled(md) - 1.0).abs() < tol
+    };
+    let missing = modes.iter().any(|md| !accs.iter().any(|a| matches(a, md)));
+    if missing {
+        for md in &modes {
+            if !accs.iter().any(|a| matches(a, md)) {
+                accs.push(Accumulator::new(sampled(md), &f));
+            }
+        }
+        let extra = (plan.first_check / 4).max(16);
+        for _ in 0..extra {
+            for _ in 0..plan.decimation {
+                step_once(&mut f);
+                step += 1;
+            }
+            let t = step as f64 * plan.dt;
+            for a in accs.iter_mut() {
+                a.add(&f, t, plan.dt);
+            }
+        }
+    }
+    let mode_fields: Vec<Option<ModeField>> = modes
+        .iter()
+        .map(|md| {
+            accs.iter()
+                .filter(|a| matches(a, md))
+                .max_by_key(|a| a.samples())
+                .map(|a| {
+                    let mut mf = a.finish();
+                    mf.freq_hz = md.freq_hz;
+                    mf
+                })
+        })
+        .collect();
     fill_axis(&mut f, m);
     let samples = signals[0].len();
     Ok(RunOutput {
@@ -213,6 +336,7 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         modes,
         signals,
         fields: f,
+        mode_fields,
     })
 }
 

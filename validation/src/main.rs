@@ -11,6 +11,7 @@ use lathe::scenario::Scenario;
 use lathe::solver::exact::{cylinder_cavity_modes, sphere_mode, EndWall, SphereFamily};
 use lathe::solver::harminv::{filter_diagonalisation, matrix_pencil, PencilOptions};
 use lathe::solver::{solve, RunOutput, ZWall};
+use lathe::study::run_study;
 use num_complex::Complex64;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
@@ -377,41 +378,40 @@ fn sphere_case(out: &mut String, file: &str, eps: f64, tot: &mut Totals) -> Resu
     Ok(())
 }
 
-/// The published benchmark cylinder.
+/// The published benchmark cylinder, solved whole (lathe splits it into
+/// two halves by itself) and matched by label.
 fn benchmark_case(out: &mut String, tot: &mut Totals) -> Result<()> {
     let file = "benchmark_cylinder.toml";
     let table = [
-        ("TE01δ", "pmc", 0u32, 4.829, 45.8),
-        ("HEM11δ", "pec", 1, 6.333, 30.7),
-        ("HEM12δ", "pmc", 1, 6.638, 52.1),
-        ("TM01δ", "pec", 0, 7.524, 76.8),
-        ("HEM21δ", "pec", 2, 7.752, 327.0),
+        ("TE01δ", 4.829, 45.8),
+        ("HEM11δ", 6.333, 30.7),
+        ("HEM12δ", 6.638, 52.1),
+        ("TM01δ", 7.524, 76.8),
+        ("HEM21δ", 7.752, 327.0),
     ];
     writeln!(
         out,
-        "### `{file}`\n\nSource: Kajfez, Glisson & James, IEEE T-MTT 32(12), 1984 (surface integral equations); values recalled from memory. Default resolution. Acceptance: f within 1 %, Q within 5 %.\n"
+        "### `{file}`\n\nSource: Kajfez, Glisson & James, IEEE T-MTT 32(12), 1984 (surface integral equations); values recalled from memory. The whole cylinder is given, absorbers all round; lathe finds the mid-plane symmetry, solves the two halves and names the modes itself — the table matches by that name. Default resolution. Acceptance: every mode found under its name, f within 1 %, Q within 5 %.\n"
     )?;
     writeln!(
         out,
-        "| mode | plane | m | f ref (GHz) | f (GHz) | error | Q ref | Q | error |"
+        "| mode | plane | f ref (GHz) | f (GHz) | error | Q ref | Q | error |"
     )?;
-    writeln!(out, "|---|---|---|---|---|---|---|---|---|")?;
-    let mut cost = (0u64, 0.0);
-    let mut families = Vec::new();
-    for wall in ["pec", "pmc"] {
-        let s = load_with_bottom(file, wall)?;
-        let (runs, secs) = run(&s)?;
-        cost.0 += runs.iter().map(|r| r.report.cell_updates).sum::<u64>();
-        cost.1 += secs;
-        families.push((wall, runs));
-    }
-    for (label, wall, m, f, q) in table {
-        let runs = &families.iter().find(|x| x.0 == wall).unwrap().1;
-        let r = runs.iter().find(|r| r.report.m == m).unwrap();
-        let (matched, _) = match_modes(&r.modes, &[(label.to_string(), f * 1e9)], 0.02);
+    writeln!(out, "|---|---|---|---|---|---|---|---|")?;
+    let s = load(file, None)?;
+    let t = Instant::now();
+    let study = run_study(&s).map_err(|e| anyhow::anyhow!("{e:?}"))?;
+    let secs = t.elapsed().as_secs_f64();
+    let updates: u64 = study
+        .runs
+        .iter()
+        .map(|r| r.output.report.cell_updates)
+        .sum();
+    let modes = study.modes();
+    for (label, f, q) in table {
         tot.checks += 1;
-        match &matched[0].computed {
-            Some(c) => {
+        match modes.iter().find(|(m, _)| m.label == label) {
+            Some((c, plane)) => {
                 let (df, dq) = (c.freq_hz / (f * 1e9) - 1.0, c.q / q - 1.0);
                 let ok = df.abs() < 0.01 && dq.abs() < 0.05;
                 if !ok {
@@ -421,9 +421,14 @@ fn benchmark_case(out: &mut String, tot: &mut Totals) -> Result<()> {
                         100.0 * dq
                     ));
                 }
+                let plane = match plane {
+                    Some(ZWall::Pec) => "pec",
+                    Some(ZWall::Pmc) => "pmc",
+                    _ => "",
+                };
                 writeln!(
                     out,
-                    "| {label} | {wall} | {m} | {f:.3} | {:.4} | {:+.2} % | {q:.1} | {:.1} | {:+.1} %{} |",
+                    "| {label} | {plane} | {f:.3} | {:.4} | {:+.2} % | {q:.1} | {:.1} | {:+.1} %{} |",
                     c.freq_hz / 1e9,
                     100.0 * df,
                     c.q,
@@ -432,18 +437,22 @@ fn benchmark_case(out: &mut String, tot: &mut Totals) -> Result<()> {
                 )?;
             }
             None => {
-                tot.failures.push(format!("{file} {label} missing"));
-                writeln!(
-                    out,
-                    "| {label} | {wall} | {m} | {f:.3} | **missing** | | {q:.1} | | |"
-                )?;
+                tot.failures.push(format!("{file} {label} not found"));
+                writeln!(out, "| {label} | | {f:.3} | **not found** | | {q:.1} | | |")?;
             }
         }
     }
+    let others: Vec<String> = modes
+        .iter()
+        .filter(|(m, _)| !table.iter().any(|t| t.0 == m.label))
+        .map(|(m, _)| format!("{} {:.4} GHz (Q {:.1})", m.label, m.freq_hz / 1e9, m.q))
+        .collect();
     writeln!(
         out,
-        "\n† Unexplained disagreement. Our TE01δ (4.857 GHz, Q 40.8) does not move with a finer cell (0.16, 0.12 mm: 4.8568 / 4.8573 GHz, Q 40.61 / 40.58), a larger region (radius and top 24 or 32 mm: Q 40.89 / 40.88) or a thicker absorber, and the same code path (m = 0, TE family, PMC plane, radial PML) reproduces the exact TE1 mode of a sphere to 0.03 % in f and 0.1 % in Q (table above). A closed-form fit for the isolated TE01δ Q that we recall (from memory, source not re-read) gives about 42 for this cylinder. We suspect the recalled reference value; it should be re-read from the paper before this is settled.\n\nCost: {:.3e} cell updates, {:.1} s (both halves, orders 0–2).\n",
-        cost.0 as f64, cost.1
+        "\nAlso found in the band: {}.\n\n† Unexplained disagreement. Our TE01δ (4.857 GHz, Q 40.8) does not move with a finer cell (0.16, 0.12 mm: 4.8568 / 4.8573 GHz, Q 40.61 / 40.58), a larger region (radius and top 24 or 32 mm: Q 40.89 / 40.88) or a thicker absorber, and the same code path (m = 0, TE family, PMC plane, radial PML) reproduces the exact TE1 mode of a sphere to 0.03 % in f and 0.1 % in Q (tables above). A closed-form fit for the isolated TE01δ Q that we recall (from memory, source not re-read) gives about 42 for this cylinder. We suspect the recalled reference value; it should be re-read from the paper before this is settled.\n\nCost: {:.3e} cell updates, {:.1} s (two halves, orders 0–2).\n",
+        if others.is_empty() { "nothing else".to_string() } else { others.join(", ") },
+        updates as f64,
+        secs
     )?;
     Ok(())
 }
