@@ -42,8 +42,10 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod formulas;
 pub mod output;
 pub mod reference;
+pub mod refine;
 pub mod scenario;
 pub mod study;
 

@@ -38,6 +38,14 @@ enum Command {
         /// Print nothing but the results.
         #[arg(long)]
         quiet: bool,
+        /// Also show the closed-form fits for a plain cylinder beside the
+        /// full-wave modes.
+        #[arg(long)]
+        compare_formulas: bool,
+        /// Solve on three grids (cells per wavelength ×1, ×√2, ×2) and report
+        /// Richardson-extrapolated f and Q with uncertainties.
+        #[arg(long)]
+        refine: bool,
     },
     /// Print the plan of each run without stepping any field.
     Check {
@@ -52,6 +60,20 @@ enum Command {
 enum Failure {
     Input(String),
     Run(String),
+}
+
+/// Writes to standard output; a closed pipe (`lathe modes … | head`) ends
+/// the program quietly, as for any command-line filter.
+fn emit(text: &str) {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    if let Err(e) = out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        if e.kind() == std::io::ErrorKind::BrokenPipe {
+            std::process::exit(0);
+        }
+        eprintln!("error: cannot write the results: {e}");
+        std::process::exit(1);
+    }
 }
 
 fn main() -> ExitCode {
@@ -86,6 +108,16 @@ fn load(file: &PathBuf, m: &Option<Vec<u32>>) -> Result<Scenario, Failure> {
     Ok(s)
 }
 
+fn write_json(path: &std::path::Path, doc: String) -> Result<(), Failure> {
+    if path.as_os_str() == "-" {
+        emit(&format!("{doc}\n"));
+        Ok(())
+    } else {
+        std::fs::write(path, doc + "\n")
+            .map_err(|e| Failure::Input(format!("--json {}: cannot write: {e}", path.display())))
+    }
+}
+
 fn failure(e: StudyError, name: &str) -> Failure {
     match e {
         StudyError::Input(e) => Failure::Input(
@@ -116,7 +148,7 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
         Command::Check { file, m } => {
             let s = load(&file, &m)?;
             let name = file.display().to_string();
-            print!("{}", output::plan_text(&s).map_err(|e| failure(e, &name))?);
+            emit(&output::plan_text(&s).map_err(|e| failure(e, &name))?);
             Ok(())
         }
         Command::Modes {
@@ -125,6 +157,8 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             json,
             threads,
             quiet,
+            compare_formulas,
+            refine,
         } => {
             let s = load(&file, &m)?;
             let name = file.display().to_string();
@@ -151,6 +185,24 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                     s.f_max / 1e9
                 );
             }
+            if refine {
+                let r = pool
+                    .install(|| lathe::refine::refine(&s))
+                    .map_err(|e| failure(e, &name))?;
+                emit(&output::refined_table(&r));
+                if let Some(path) = json {
+                    let doc = serde_json::to_string_pretty(&output::refined_json(&r))
+                        .expect("JSON of plain numbers");
+                    write_json(&path, doc)?;
+                }
+                if r.modes.is_empty() {
+                    return Err(Failure::Run(
+                        "no mode was found on all three grids; check the band or the plain run"
+                            .into(),
+                    ));
+                }
+                return Ok(());
+            }
             let study = pool
                 .install(|| run_study(&s))
                 .map_err(|e| failure(e, &name))?;
@@ -173,17 +225,14 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                     "a mode came out with a non-finite figure; this is a bug, please report the scenario".into(),
                 ));
             }
-            print!("{}", output::table(&study));
+            emit(&output::table(&study));
+            if compare_formulas {
+                emit(&lathe::formulas::comparison_text(&s, &study));
+            }
             if let Some(path) = json {
                 let doc = serde_json::to_string_pretty(&output::json(&study))
                     .expect("JSON of plain numbers");
-                if path.as_os_str() == "-" {
-                    println!("{doc}");
-                } else {
-                    std::fs::write(&path, doc + "\n").map_err(|e| {
-                        Failure::Input(format!("--json {}: cannot write: {e}", path.display()))
-                    })?;
-                }
+                write_json(&path, doc)?;
             }
             if runs.iter().all(|r| r.modes.is_empty()) {
                 return Err(Failure::Run(format!(

@@ -213,3 +213,72 @@ fn plan_one(
     }
     Ok(s)
 }
+
+/// The refined mode table (`--refine`).
+pub fn refined_table(r: &crate::refine::Refined) -> String {
+    let halves = r.modes.iter().any(|m| m.plane.is_some());
+    let mut s =
+        String::from("  m  mode              f (GHz)   ± (GHz)             Q         ±   order(f)");
+    s.push_str(if halves { "  plane\n" } else { "\n" });
+    for m in &r.modes {
+        let q = if m.finest.q_is_lower_bound {
+            format!("≥ {:.3e}", m.q)
+        } else {
+            format!("{:.3}", m.q)
+        };
+        s.push_str(&format!(
+            "{:>3}  {:<12}  {:>11.6}  {:>8.1e}  {:>12}  {:>8.2}  {:>9}",
+            m.finest.m,
+            m.finest.label,
+            m.freq_hz / 1e9,
+            m.freq_err_hz / 1e9,
+            q,
+            m.q_err,
+            m.order_f.map_or("—".to_string(), |p| format!("{p:.2}"))
+        ));
+        if halves {
+            s.push_str(&format!("  {}", plane_name(m.plane)));
+        }
+        s.push('\n');
+    }
+    s
+}
+
+/// The JSON document of a refined study: the modes carry the extrapolated
+/// `freq_hz` and `q` with `freq_err_hz` and `q_err`; `runs` lists the runs
+/// of all three grids (`grid` 0 = coarsest).
+pub fn refined_json(r: &crate::refine::Refined) -> Value {
+    let modes: Vec<Value> = r
+        .modes
+        .iter()
+        .map(|m| {
+            json!({
+                "m": m.finest.m,
+                "label": m.finest.label,
+                "freq_hz": m.freq_hz,
+                "freq_err_hz": m.freq_err_hz,
+                "q": m.q,
+                "q_err": m.q_err,
+                "q_is_lower_bound": m.finest.q_is_lower_bound,
+                "order_f": m.order_f,
+                "freq_hz_finest": m.finest.freq_hz,
+                "q_finest": m.finest.q,
+                "error": m.finest.error,
+                "plane": m.plane.map(|_| plane_name(m.plane)),
+            })
+        })
+        .collect();
+    let mut runs = Vec::new();
+    for (k, st) in r.studies.iter().enumerate() {
+        if let Value::Object(doc) = json(st) {
+            if let Some(Value::Array(rs)) = doc.get("runs") {
+                for run in rs {
+                    let mut run = run.clone();
+                    run["grid"] = json!(k);
+                    runs.push(run);
+                }
+            }
+        }
+    }
+    json!({ "modes": modes, "runs": runs })
+}

@@ -114,15 +114,12 @@ pub fn run_study(s: &Scenario) -> Result<Study, StudyError> {
     for ((plane, _, _), r) in probs.iter().zip(solved) {
         outputs.push((*plane, r.map_err(StudyError::Run)?));
     }
-    {
-        let mut pairs = Vec::new();
-        for ((_, outs), (_, _, p)) in outputs.iter_mut().zip(&probs) {
-            for o in outs.iter_mut() {
-                pairs.push((o, &p.materials));
-            }
-        }
-        label_runs(&mut pairs);
-    }
+    label_runs(
+        &mut outputs
+            .iter_mut()
+            .flat_map(|(_, outs)| outs.iter_mut())
+            .collect::<Vec<_>>(),
+    );
     for (plane, outs) in outputs {
         for output in outs {
             runs.push(StudyRun { plane, output });

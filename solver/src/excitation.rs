@@ -94,6 +94,10 @@ pub struct Point {
     pub z: f64,
     /// The nodes it touches.
     pub taps: Vec<Tap>,
+    /// For probes of an m = 0 run: the family it reads (TE: E_φ, H_r, H_z;
+    /// TM: E_r, E_z, H_φ), which decouple exactly at m = 0, so every mode
+    /// it sees is of that family. `None` otherwise.
+    pub family: Option<crate::modes::Family>,
 }
 
 /// R2 low-discrepancy sequence in the unit square (Roberts 2018: steps
@@ -176,13 +180,47 @@ pub fn place(
                 }
             }
             if taps.iter().any(|t| t.component.is_electric()) {
-                out.push(Point { r, z, taps });
+                out.push(Point {
+                    r,
+                    z,
+                    taps,
+                    family: None,
+                });
             }
         }
         out
     };
     let sources = pick(n_sources, true, 0.3);
-    let probes = pick(n_probes, false, 1.1);
+    let mut probes = pick(n_probes, false, 1.1);
+    if coeffs.m == 0 {
+        // Read each family on its own (see `Point::family`).
+        use crate::modes::Family;
+        probes = probes
+            .into_iter()
+            .flat_map(|p| {
+                [Family::Te, Family::Tm].into_iter().filter_map(move |fam| {
+                    let taps: Vec<Tap> = p
+                        .taps
+                        .iter()
+                        .filter(|t| {
+                            let te = matches!(
+                                t.component,
+                                Component::Ephi | Component::Hr | Component::Hz
+                            );
+                            te == (fam == Family::Te)
+                        })
+                        .copied()
+                        .collect();
+                    (!taps.is_empty()).then_some(Point {
+                        r: p.r,
+                        z: p.z,
+                        taps,
+                        family: Some(fam),
+                    })
+                })
+            })
+            .collect();
+    }
     (sources, probes)
 }
 

@@ -102,38 +102,3 @@ impl Accumulator {
         }
     }
 }
-
-/// Fraction of a mode's energy in the TE components (E_φ, H_r, H_z) —
-/// for m = 0 these decouple exactly from E_r, E_z, H_φ, so the fraction is
-/// near 1 (TE) or 0 (TM). Energies are volume-weighted by the node radius.
-pub fn te_fraction(mf: &ModeField, grid: &lathe_mesh::Grid, eps_e: &[&[f64]; 3]) -> f64 {
-    use crate::consts::{EPS0, MU0};
-    let mut te = 0.0;
-    let mut tm = 0.0;
-    for (k, &c) in Component::ALL.iter().enumerate() {
-        let (ni, nj) = c.shape(grid);
-        let mut sum = 0.0;
-        for i in 0..ni {
-            let (r, _) = c.position(grid, i, 0);
-            let w = if r == 0.0 { grid.dr / 8.0 } else { r };
-            for j in 0..nj {
-                let idx = i * nj + j;
-                let mat = if c.is_electric() {
-                    EPS0 * eps_e[k][idx]
-                } else {
-                    MU0
-                };
-                sum += w * mat * mf.components[k][idx].norm_sqr();
-            }
-        }
-        match c {
-            Component::Ephi | Component::Hr | Component::Hz => te += sum,
-            _ => tm += sum,
-        }
-    }
-    if te + tm > 0.0 {
-        te / (te + tm)
-    } else {
-        0.5
-    }
-}

@@ -50,12 +50,16 @@ pub struct Mode {
     /// The trade's name (TE01δ, TM01δ, HEM11δ, …), set by [`label_modes`];
     /// empty until then.
     pub label: String,
+    /// For m = 0: TE or TM, known from which probes saw the mode.
+    pub family: Option<Family>,
 }
 
 /// Merges per-probe pole lists (already accepted by the estimator) into
 /// modes of order `m`, correcting for the leapfrog time step `dt` (the FDTD
-/// step, not the sample spacing).
-pub fn merge(per_probe: &[Vec<Pole>], m: u32, dt: f64) -> Vec<Mode> {
+/// step, not the sample spacing). `families[p]` is the family probe `p`
+/// reads (m = 0), or `None`; poles of probes of different families never
+/// share a cluster.
+pub fn merge(per_probe: &[Vec<Pole>], families: &[Option<Family>], m: u32, dt: f64) -> Vec<Mode> {
     let mut all: Vec<(usize, Pole, f64)> = Vec::new();
     for (p, poles) in per_probe.iter().enumerate() {
         let peak = poles.iter().map(|q| q.amplitude.norm()).fold(0.0, f64::max);
@@ -76,7 +80,9 @@ pub fn merge(per_probe: &[Vec<Pole>], m: u32, dt: f64) -> Vec<Mode> {
             let tol = (100.0 * best.error.max(item.1.error)).clamp(1e-7, 1e-4);
             let close = (item.1.omega() - best.omega()).norm() <= tol * best.omega().norm();
             let free = c.iter().all(|x| x.0 != item.0);
-            if close && free {
+            let fam = |p: usize| families.get(p).copied().flatten();
+            let same_family = fam(c[0].0) == fam(item.0);
+            if close && free && same_family {
                 c.push(item);
                 true
             } else {
@@ -115,20 +121,21 @@ pub fn merge(per_probe: &[Vec<Pole>], m: u32, dt: f64) -> Vec<Mode> {
                 amplitude: c.iter().map(|x| x.2).fold(0.0, f64::max),
                 probes: c.len(),
                 label: String::new(),
+                family: families.get(c[0].0).copied().flatten(),
             }
         })
         .collect()
 }
 
-/// Field family of an m = 0 mode, from the share of its energy in E_φ, H_r,
-/// H_z (which decouple exactly from E_r, E_z, H_φ at m = 0).
+/// Field family of an m = 0 mode: E_φ, H_r, H_z (TE) or E_r, E_z, H_φ
+/// (TM), which decouple exactly at m = 0.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Family {
-    /// TE share ≥ 0.9.
+    /// Transverse electric: E_φ, H_r, H_z.
     Te,
-    /// TE share ≤ 0.1.
+    /// Transverse magnetic: E_r, E_z, H_φ.
     Tm,
-    /// In between (leakage from a nearby mode), or unknown.
+    /// Not known.
     Unclear,
 }
 
@@ -138,9 +145,10 @@ pub enum Family {
 /// both symmetry families when the structure was split by a symmetry plane —
 /// each with its m = 0 family (ignored for m ≥ 1). Rule:
 ///
-/// - m = 0: `TE0nδ` or `TM0nδ` by family, n = rank by frequency among the
-///   m = 0 modes of that family; a mode whose family is unclear is
-///   `TE/TM0nδ?`, ranked among the unclear ones.
+/// - m = 0: `TE0nδ` or `TM0nδ` by family (known from which probes saw the
+///   mode, see [`crate::excitation::Point::family`]), n = rank by frequency
+///   among the m = 0 modes of that family; a mode whose family is not known
+///   is `TE/TM0nδ?`, ranked among those.
 /// - m ≥ 1: `HEMmnδ`, n = rank by frequency among the modes of that m, over
 ///   both symmetry families (this reproduces the usual names of an isolated
 ///   cylinder: HEM11δ below HEM12δ, one in each family).
@@ -215,7 +223,7 @@ mod tests {
             pole(6e9 * (1.0 - 2e-9), 50.0, 1e-9, 0.7),
             pole(6.006e9, 60.0, 1e-9, 1.0),
         ];
-        let modes = merge(&[a, b, c], 1, 1e-15);
+        let modes = merge(&[a, b, c], &[None, None, None], 1, 1e-15);
         assert_eq!(modes.len(), 3);
         assert_eq!(modes[0].probes, 2);
         assert_eq!(modes[1].probes, 2);
@@ -236,6 +244,7 @@ mod tests {
             amplitude: 1.0,
             probes: 1,
             label: String::new(),
+            family: None,
         };
         let mut v = [
             mk(0, 4.86e9),

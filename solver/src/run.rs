@@ -93,42 +93,18 @@ pub fn solve(problem: &Problem, ms: &[u32]) -> Result<Vec<RunOutput>, SolverErro
         .map(|&m| plan(problem, m).and_then(|p| run(problem, &p)))
         .collect();
     let mut runs: Vec<RunOutput> = results.into_iter().collect::<Result<_, _>>()?;
-    label_runs(
-        &mut runs
-            .iter_mut()
-            .map(|r| (r, &problem.materials))
-            .collect::<Vec<_>>(),
-    );
+    label_runs(&mut runs.iter_mut().collect::<Vec<_>>());
     Ok(runs)
 }
 
 /// Labels the modes of all `runs` of one structure together (e.g. both
-/// symmetry halves), each run with the materials it was solved on
-/// (see [`crate::modes::label_modes`] for the rule).
-pub fn label_runs(runs: &mut [(&mut RunOutput, &lathe_mesh::MaterialMap)]) {
+/// symmetry halves); see [`crate::modes::label_modes`] for the rule.
+pub fn label_runs(runs: &mut [&mut RunOutput]) {
     use crate::modes::{label_modes, Family};
     let mut all: Vec<(&mut Mode, Family)> = Vec::new();
-    for (r, map) in runs.iter_mut() {
-        let eps = [&map.er.eps_r[..], &map.ephi.eps_r[..], &map.ez.eps_r[..]];
-        let fams: Vec<Family> = r
-            .mode_fields
-            .iter()
-            .zip(&r.modes)
-            .map(|(mf, md)| match mf {
-                Some(mf) if md.m == 0 => {
-                    let te = crate::modefield::te_fraction(mf, &map.grid, &eps);
-                    if te >= 0.9 {
-                        Family::Te
-                    } else if te <= 0.1 {
-                        Family::Tm
-                    } else {
-                        Family::Unclear
-                    }
-                }
-                _ => Family::Unclear,
-            })
-            .collect();
-        for (md, fam) in r.modes.iter_mut().zip(fams) {
+    for r in runs.iter_mut() {
+        for md in r.modes.iter_mut() {
+            let fam = md.family.unwrap_or(Family::Unclear);
             all.push((md, fam));
         }
     }
@@ -239,9 +215,11 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         if !scout {
             checks += 1;
         }
+        let families: Vec<_> = plan.probes.iter().map(|p| p.family).collect();
         let found = crate::fpu::with_gradual_underflow(|| {
             invert(
                 &signals,
+                &families,
                 plan.sample_dt,
                 plan.dt,
                 m,
@@ -344,8 +322,10 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
 pub const NOISE_FLOOR: f64 = 1e-10;
 
 /// Harmonic inversion of every probe signal and merging into modes.
+#[allow(clippy::too_many_arguments)]
 pub fn invert(
     signals: &[Vec<f64>],
+    families: &[Option<crate::modes::Family>],
     sample_dt: f64,
     dt: f64,
     m: u32,
@@ -353,15 +333,20 @@ pub fn invert(
     f_max: f64,
     opts: &FdmOptions,
 ) -> Result<Vec<Mode>, SolverError> {
+    // Noise floor: a pole whose RMS over the record is below NOISE_FLOOR of
+    // the largest probe signal of the run is round-off, not a mode (FDTD
+    // signals carry ~1e-16 relative noise; this leaves six decades of margin
+    // for weakly coupled modes). The reference is the run's largest signal,
+    // not each signal's own: a probe that sees nothing (at m = 0 the TE probe
+    // of a structure with no TE mode in the band) records round-off only.
+    let peak = signals
+        .iter()
+        .flat_map(|s| s.iter())
+        .fold(0.0f64, |a, x| a.max(x.abs()));
     let per_probe: Vec<_> = signals
         .iter()
         .map(|s| {
             let c: Vec<Complex64> = s.iter().map(|&x| Complex64::new(x, 0.0)).collect();
-            // Noise floor: a pole whose RMS over the record is below
-            // NOISE_FLOOR of the signal's own peak is round-off, not a mode
-            // (FDTD signals carry ~1e-16 relative noise; this leaves six
-            // decades of margin for weakly coupled modes).
-            let peak = s.iter().fold(0.0f64, |a, x| a.max(x.abs()));
             let n = s.len() as f64;
             filter_diagonalisation(&c, sample_dt, f_min, f_max, opts)
                 .map(|poles| {
@@ -381,7 +366,7 @@ pub fn invert(
                 .map_err(|source| SolverError::Harminv { m, source })
         })
         .collect::<Result<_, _>>()?;
-    Ok(merge(&per_probe, m, dt))
+    Ok(merge(&per_probe, families, m, dt))
 }
 
 fn same_modes(a: &[Mode], b: &[Mode]) -> bool {

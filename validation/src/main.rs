@@ -457,6 +457,87 @@ fn benchmark_case(out: &mut String, tot: &mut Totals) -> Result<()> {
     Ok(())
 }
 
+/// The closed-form fits against the solver over a/h 0.5 … 2, ε_r 10 … 80.
+fn formulas_case(out: &mut String, tot: &mut Totals) -> Result<()> {
+    use lathe::formulas::{compare, cylinder_on_ground};
+    writeln!(
+        out,
+        "### Closed-form fits against the solver\n\nSource: Mongia & Bhartia, Int. J. Microwave & Millimeter-Wave CAE 4(3), 1994 (Balanis, *Antenna Theory*, 4th ed., eqs. 14-108 … 14-110), `lathe::formulas`; stated accuracy 3 % in f, 10 % in Q. Isolated cylinders of radius a = 4.0 mm and height 2h (h the height on a ground plane), solved whole; differences are fit/solver − 1; **flag** = beyond the fits' stated accuracy.\n"
+    )?;
+    writeln!(
+        out,
+        "| ε_r | a/h | HEM11δ f | HEM11δ Q | TE01δ f | TM01δ f |"
+    )?;
+    writeln!(out, "|---|---|---|---|---|---|")?;
+    let mut flags = Vec::new();
+    for eps in [10.0, 38.0, 80.0] {
+        for z in [0.5, 1.0, 2.0] {
+            let a = 4.0;
+            let h = a / z;
+            let fits = cylinder_on_ground(eps, a * 1e-3, h * 1e-3);
+            let lo = fits.iter().map(|f| f.freq_hz).fold(f64::INFINITY, f64::min) / 1e9;
+            let hi = fits.iter().map(|f| f.freq_hz).fold(0.0, f64::max) / 1e9;
+            let text = format!(
+                "[[body]]\nshape = \"cylinder\"\nradius = {a}\nheight = {}\nbase = {}\neps_r = {eps}\n[search]\nm = [0, 1]\nf_min = {:.4}\nf_max = {:.4}\n",
+                2.0 * h,
+                -h,
+                0.85 * lo,
+                1.1 * hi
+            );
+            let sc = Scenario::parse(&text, "sweep").map_err(|e| anyhow::anyhow!("{e}"))?;
+            let study = run_study(&sc).map_err(|e| anyhow::anyhow!("{e:?}"))?;
+            let rows = compare(eps, a * 1e-3, h * 1e-3, false, &study);
+            let mut cell = |label: &str, q: bool| -> String {
+                let Some(c) = rows.iter().find(|c| c.fit.label == label) else {
+                    return "—".into();
+                };
+                match c.differences() {
+                    None => "not found".into(),
+                    Some((df, dq)) => {
+                        let (v, lim) = if q { (dq, 0.10) } else { (Some(df), 0.03) };
+                        match v {
+                            None => "—".into(),
+                            Some(v) => {
+                                let flag = v.abs() > lim;
+                                if flag {
+                                    flags.push(format!(
+                                        "ε_r {eps}, a/h {z}: {label} {} {:+.1} %",
+                                        if q { "Q" } else { "f" },
+                                        100.0 * v
+                                    ));
+                                }
+                                format!(
+                                    "{:+.1} %{}",
+                                    100.0 * v,
+                                    if flag { " **flag**" } else { "" }
+                                )
+                            }
+                        }
+                    }
+                }
+            };
+            let cols = [
+                cell("HEM11δ", false),
+                cell("HEM11δ", true),
+                cell("TE01δ", false),
+                cell("TM01δ", false),
+            ];
+            writeln!(
+                out,
+                "| {eps} | {z} | {} | {} | {} | {} |",
+                cols[0], cols[1], cols[2], cols[3]
+            )?;
+            tot.checks += 1;
+        }
+    }
+    writeln!(
+        out,
+        "\nFlagged: {}. The solver's HEM11δ matches the published benchmark cylinder to 0.1 % (above), so a flag here points at the fit's edge of validity (tall cylinders, a/h = 0.5) or, for TM01δ of tall cylinders, at a different mode taking the name: the fit's TM01δ assumes one axial half-wave, which a tall rod's lowest TM mode need not have. Not counted as failures: the fits claim only a few percent.\n",
+        if flags.is_empty() { "none".to_string() } else { flags.join("; ") }
+    )?;
+    Ok(())
+}
+
 fn main() -> Result<()> {
     let start = Instant::now();
     let mut out = String::new();
@@ -486,6 +567,7 @@ fn main() -> Result<()> {
     sphere_case(&mut body, "sphere_38.toml", 38.0, &mut tot)?;
     sphere_case(&mut body, "sphere_10.toml", 10.0, &mut tot)?;
     benchmark_case(&mut body, &mut tot)?;
+    formulas_case(&mut body, &mut tot)?;
     writeln!(out, "# lathe validation report\n")?;
     writeln!(
         out,
