@@ -26,7 +26,10 @@
 //! top = "pec"              # "pec" | "pmc"
 //!
 //! [[body]]                 # later bodies override earlier ones
-//! shape = "cylinder"       # "cylinder" (radius) or "ring" (inner_radius, outer_radius)
+//! shape = "cylinder"       # "cylinder" (radius, height, base), "ring" (inner_radius,
+//!                          # outer_radius, height, base), "sphere" (radius, center),
+//!                          # "cone" (radius_bottom, radius_top, height, base) or
+//!                          # "polygon" (points = [[r, z], …])
 //! radius = 4.0
 //! height = 3.0
 //! base = 0.0
@@ -796,10 +799,14 @@ fn read_body(rd: &Reader, t: &Table, k: usize) -> Result<Body, ScenarioError> {
         "cylinder" => &["radius", "height", "base"],
         "ring" => &["inner_radius", "outer_radius", "height", "base"],
         "sphere" => &["radius", "center"],
+        "cone" => &["radius_bottom", "radius_top", "height", "base"],
+        "polygon" => &["points"],
         other => {
             return Err(rd.err(
                 &full("shape"),
-                format!("unknown shape \"{other}\"; allowed: \"cylinder\", \"ring\", \"sphere\""),
+                format!(
+                    "unknown shape \"{other}\"; allowed: \"cylinder\", \"ring\", \"sphere\", \"cone\", \"polygon\""
+                ),
                 None,
             ))
         }
@@ -814,6 +821,36 @@ fn read_body(rd: &Reader, t: &Table, k: usize) -> Result<Body, ScenarioError> {
         "sphere" => Shape::Sphere {
             radius: len("radius", "radius in mm")? * MM,
             center: rd.required(t, "center", &full("center"), "z of the centre in mm")? * MM,
+        },
+        "cone" => {
+            let rb = rd.required(
+                t,
+                "radius_bottom",
+                &full("radius_bottom"),
+                "bottom radius in mm",
+            )?;
+            let rt = rd.required(t, "radius_top", &full("radius_top"), "top radius in mm")?;
+            for (key, v) in [("radius_bottom", rb), ("radius_top", rt)] {
+                if v < 0.0 {
+                    return Err(rd.err(&full(key), format!("must be ≥ 0, got {v} mm"), None));
+                }
+            }
+            if rb == 0.0 && rt == 0.0 {
+                return Err(rd.err(
+                    &full("radius_bottom"),
+                    "radius_bottom and radius_top are both 0: the cone has no volume".into(),
+                    None,
+                ));
+            }
+            Shape::Cone {
+                radius_bottom: rb * MM,
+                radius_top: rt * MM,
+                height: len("height", "height in mm")? * MM,
+                base: rd.required(t, "base", &full("base"), "z of the bottom face in mm")? * MM,
+            }
+        }
+        "polygon" => Shape::Polygon {
+            points: read_points(rd, t, &full("points"))?,
         },
         _ => rect_shape(rd, t, &p, shape_name)?,
     };
@@ -867,6 +904,73 @@ fn read_body(rd: &Reader, t: &Table, k: usize) -> Result<Body, ScenarioError> {
         }
     };
     Ok(Body { shape, material })
+}
+
+/// `points = [[r, z], …]` in mm: at least three, finite, r ≥ 0, enclosing
+/// an area.
+fn read_points(rd: &Reader, t: &Table, key: &str) -> Result<Vec<(f64, f64)>, ScenarioError> {
+    let Some(v) = t.get("points") else {
+        return Err(rd.err(
+            key,
+            "missing (the profile as [[r, z], …] in mm)".into(),
+            None,
+        ));
+    };
+    let Value::Array(items) = v else {
+        return Err(rd.err(
+            key,
+            format!("expected an array of [r, z] pairs, found {}", describe(v)),
+            None,
+        ));
+    };
+    let num = |x: &Value| match x {
+        Value::Float(f) if f.is_finite() => Some(*f),
+        Value::Integer(i) => Some(*i as f64),
+        _ => None,
+    };
+    let mut pts = Vec::new();
+    for (k, item) in items.iter().enumerate() {
+        let pair = match item {
+            Value::Array(p) if p.len() == 2 => (num(&p[0]), num(&p[1])),
+            _ => (None, None),
+        };
+        let (Some(r), Some(z)) = pair else {
+            return Err(rd.err(
+                &format!("{key}[{k}]"),
+                format!(
+                    "expected a pair [r, z] of finite numbers, found {}",
+                    describe(item)
+                ),
+                None,
+            ));
+        };
+        if r < 0.0 {
+            return Err(rd.err(
+                &format!("{key}[{k}]"),
+                format!("r = {r} mm crosses the axis; a profile lies in r ≥ 0"),
+                Some("put the axis part of the profile on r = 0".into()),
+            ));
+        }
+        pts.push((r * MM, z * MM));
+    }
+    if pts.len() < 3 {
+        return Err(rd.err(
+            key,
+            format!("a profile needs at least 3 points, got {}", pts.len()),
+            None,
+        ));
+    }
+    let area: f64 = (0..pts.len())
+        .map(|k| {
+            let (a, b) = (pts[k], pts[(k + 1) % pts.len()]);
+            a.0 * b.1 - b.0 * a.1
+        })
+        .sum::<f64>()
+        * 0.5;
+    if area.abs() < 1e-18 {
+        return Err(rd.err(key, "the points enclose no area".into(), None));
+    }
+    Ok(pts)
 }
 
 fn rect_shape(rd: &Reader, t: &Table, p: &str, shape_name: &str) -> Result<Shape, ScenarioError> {

@@ -65,12 +65,25 @@ pub fn halves(s: &Scenario) -> Option<(Scenario, Scenario)> {
     }
     let mid = 0.5 * (s.z_min + s.z_max);
     let tol = 1e-6 * (s.z_max - s.z_min);
-    let symmetric = s.bodies.iter().all(|b| match b.shape {
-        Shape::Sphere { center, .. } => (center - mid).abs() <= tol,
-        _ => {
-            let (_, _, z0, z1) = b.shape.bounds();
-            (0.5 * (z0 + z1) - mid).abs() <= tol
+    // A body is symmetric when its extent is centred on the plane and its
+    // profile is its own mirror image: checked on a 64 × 64 lattice of points
+    // over its bounding box (exact for cylinders, rings and spheres; a cone
+    // with unequal radii or an unsymmetric polygon fails it).
+    let symmetric = s.bodies.iter().all(|b| {
+        let (r0, r1, z0, z1) = b.shape.bounds();
+        if (0.5 * (z0 + z1) - mid).abs() > tol {
+            return false;
         }
+        if let Shape::Sphere { .. } = b.shape {
+            return true;
+        }
+        (0..64).all(|i| {
+            let r = r0 + (r1 - r0) * (i as f64 + 0.37) / 64.0;
+            (0..64).all(|j| {
+                let z = z0 + (z1 - z0) * (j as f64 + 0.29) / 64.0;
+                b.shape.contains(r, z, 0.0) == b.shape.contains(r, 2.0 * mid - z, 0.0)
+            })
+        })
     });
     if !symmetric {
         return None;
