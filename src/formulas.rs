@@ -92,6 +92,25 @@ mod tests {
     }
 }
 
+/// The scenario of an isolated cylinder of relative permittivity `eps_r`,
+/// radius `a_mm` and height 2·`h_mm` (h the height on a ground plane),
+/// centred on z = 0 with the region chosen by lathe, searched for m = 0, 1
+/// from 0.85 × the lowest fitted frequency to 1.1 × the highest. Used to
+/// set the fits against the solver.
+pub fn isolated_cylinder(eps_r: f64, a_mm: f64, h_mm: f64) -> crate::scenario::Scenario {
+    let fits = cylinder_on_ground(eps_r, a_mm * 1e-3, h_mm * 1e-3);
+    let lo = fits.iter().map(|f| f.freq_hz).fold(f64::INFINITY, f64::min) / 1e9;
+    let hi = fits.iter().map(|f| f.freq_hz).fold(0.0, f64::max) / 1e9;
+    let text = format!(
+        "[[body]]\nshape = \"cylinder\"\nradius = {a_mm}\nheight = {}\nbase = {}\neps_r = {eps_r}\n[search]\nm = [0, 1]\nf_min = {:.4}\nf_max = {:.4}\n",
+        2.0 * h_mm,
+        -h_mm,
+        0.85 * lo,
+        1.1 * hi
+    );
+    crate::scenario::Scenario::parse(&text, "isolated cylinder").expect("a well-formed scenario")
+}
+
 /// One fitted mode beside the full-wave one.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Comparison {

@@ -6,6 +6,18 @@
 //! (spurious, if the reference list is complete).
 use lathe_solver::Mode;
 
+/// The isolated benchmark cylinder: ε_r 38, radius 5.25 mm, height 4.6 mm.
+/// Resonances computed by surface integral equations in Kajfez, Glisson &
+/// James, IEEE T-MTT 32(12), 1984. Values recalled from memory (the table
+/// itself was not re-read): (label, f in GHz, Q).
+pub const BENCHMARK_CYLINDER: [(&str, f64, f64); 5] = [
+    ("TE01δ", 4.829, 45.8),
+    ("HEM11δ", 6.333, 30.7),
+    ("HEM12δ", 6.638, 52.1),
+    ("TM01δ", 7.524, 76.8),
+    ("HEM21δ", 7.752, 327.0),
+];
+
 /// One reference mode and what it was matched with.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Matched {

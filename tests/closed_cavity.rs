@@ -38,11 +38,7 @@ fn scenario(
 }
 
 fn wall(w: ZWall) -> EndWall {
-    match w {
-        ZWall::Pec => EndWall::Pec,
-        ZWall::Pmc => EndWall::Pmc,
-        ZWall::Pml(_) => panic!("closed cavities only"),
-    }
+    EndWall::from_wall(w).expect("closed cavities only")
 }
 
 /// Runs `s` and checks every exact mode is found within `tol` and nothing

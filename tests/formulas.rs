@@ -7,22 +7,12 @@
 //! matches the published benchmark to 0.1 % — there the comparison must be
 //! flagged, which is asserted too. The 3 × 3 sweep is in
 //! validation/REPORT.md.
-use lathe::formulas::{compare, comparison_text, cylinder_on_ground, F_ACCURACY, Q_ACCURACY};
+use lathe::formulas::{compare, comparison_text, isolated_cylinder, F_ACCURACY, Q_ACCURACY};
 use lathe::scenario::Scenario;
 use lathe::study::run_study;
 
 fn isolated(eps: f64, a_mm: f64, h_mm: f64) -> Scenario {
-    let fits = cylinder_on_ground(eps, a_mm * 1e-3, h_mm * 1e-3);
-    let lo = fits.iter().map(|f| f.freq_hz).fold(f64::INFINITY, f64::min) / 1e9;
-    let hi = fits.iter().map(|f| f.freq_hz).fold(0.0, f64::max) / 1e9;
-    let text = format!(
-        "[[body]]\nshape = \"cylinder\"\nradius = {a_mm}\nheight = {}\nbase = {}\neps_r = {eps}\n[search]\nm = [0, 1]\nf_min = {:.4}\nf_max = {:.4}\n",
-        2.0 * h_mm,
-        -h_mm,
-        0.85 * lo,
-        1.1 * hi
-    );
-    Scenario::parse(&text, "fit").unwrap()
+    isolated_cylinder(eps, a_mm, h_mm)
 }
 
 #[test]

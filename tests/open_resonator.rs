@@ -154,13 +154,7 @@ fn benchmark_cylinder_modes_are_found_labelled_and_match_the_published_table() {
     // and region size and the same code path reproduces the exact TE1 sphere
     // mode to 0.03 % in f and 0.1 % in Q, so we report the 11 % Q difference
     // to the recalled 45.8 as unexplained (validation/REPORT.md).
-    let table = [
-        ("TE01δ", 4.829, 45.8),
-        ("HEM11δ", 6.333, 30.7),
-        ("HEM12δ", 6.638, 52.1),
-        ("TM01δ", 7.524, 76.8),
-        ("HEM21δ", 7.752, 327.0),
-    ];
+    let table = lathe::reference::BENCHMARK_CYLINDER;
     let s = scenario(
         r#"
 [region]

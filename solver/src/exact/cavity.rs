@@ -80,6 +80,18 @@ pub enum EndWall {
     Pmc,
 }
 
+impl EndWall {
+    /// The end wall matching a solver wall; `None` for an absorber (a closed
+    /// cavity has none).
+    pub fn from_wall(w: crate::boundary::ZWall) -> Option<EndWall> {
+        match w {
+            crate::boundary::ZWall::Pec => Some(EndWall::Pec),
+            crate::boundary::ZWall::Pmc => Some(EndWall::Pmc),
+            crate::boundary::ZWall::Pml(_) => None,
+        }
+    }
+}
+
 /// Mode family, relative to the cavity axis `z`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Family {
