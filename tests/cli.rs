@@ -108,6 +108,24 @@ fn bad_input_exits_2_and_quotes_key_and_value() {
             &format!("{GOOD}[[body]]\nshape = \"cylinder\"\nradius = 1.0\nheight = 1.0\nbase = 0.0\neps_r = 0.3\n"),
             &["body[0].eps_r", "0.3"],
         ),
+        (
+            "poly",
+            &format!("{GOOD}[[body]]\nshape = \"polygon\"\npoints = [[0.0, 0.0], [-1.0, 1.0], [1.0, 2.0]]\neps_r = 4.0\n"),
+            &["body[0].points[1]", "-1", "r ≥ 0"],
+        ),
+        (
+            "cone",
+            &format!("{GOOD}[[body]]\nshape = \"cone\"\nradius_bottom = 0.0\nradius_top = 0.0\nheight = 1.0\nbase = 0.0\neps_r = 4.0\n"),
+            &["body[0].radius_bottom", "no volume"],
+        ),
+        ("pml", &GOOD.replace("[search]", "[boundary]\ntop = \"pml\"\npml_cells = 2\n[search]"), &["boundary.pml_cells", "2"]),
+        ("wall", &GOOD.replace("[search]", "[boundary]\nouter = \"pmc\"\n[search]"), &["boundary.outer", "pmc"]),
+        ("sym", &GOOD.replace("f_max = 40.0", "f_max = 40.0\nsymmetry = \"yes\""), &["search.symmetry", "yes"]),
+        (
+            "thin",
+            &format!("{GOOD}[[body]]\nshape = \"cylinder\"\nradius = 2.0\nheight = 0.05\nbase = 0.0\neps_r = 4.0\n"),
+            &["body[0].height", "thinner than one cell"],
+        ),
     ];
     for (name, text, needles) in cases {
         let path = write_tmp(&format!("{name}.toml"), text);
