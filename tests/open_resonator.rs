@@ -57,8 +57,8 @@ f_max = {}
 #[test]
 fn sphere_and_hemisphere_modes_match_the_exact_resonances() {
     // Tolerances: f 0.5 %, Q 3 % at the default resolution (the issue's
-    // figures). Curved surfaces are staircased for E_r and E_z (lathe-mesh
-    // fill.rs), so these hold by resolution, not by order of accuracy.
+    // figures). The anisotropic average on the sphere's surface converges at
+    // order ≈ 1–1.5 (DEVELOPERS.md), so these hold by resolution.
     let mut checked = 0;
     for (eps, band) in [(38.0, (4.0, 8.0)), (10.0, (7.0, 15.0))] {
         for wall in ["pec", "pmc"] {

@@ -22,6 +22,12 @@
 //! dual cell into (every shape of this release is a rectangle in (r, z)), so
 //! a face's position is represented to round-off, not snapped to a sample.
 //!
+//! Cells cut by a curved or slanted surface (spheres, cones, polygons) get
+//! the full anisotropic average of Kottke, Farjadpour & Johnson (see
+//! `curved_cell`): the diagonal entry for the node and the off-diagonal
+//! (r, z) entry, which the solver applies as a symmetric coupling between
+//! neighbouring E_r and E_z nodes.
+//!
 //! Metal is staircased: an electric node on or inside a PEC body is held at
 //! zero; metal samples in a free node's dual cell are left out of its mean.
 use crate::{Body, Component, Grid, Material, Overlap};
@@ -44,8 +50,13 @@ impl Default for FillOptions {
 /// Permittivity and metal mask of the nodes of one electric component.
 #[derive(Debug, Clone, PartialEq)]
 pub struct NodeMaterial {
-    /// Effective ε_r per node (1 where the node is metal), row-major in i.
+    /// Effective ε_r per node (1 where the node is metal), row-major in i:
+    /// the inverse of the diagonal entry of the node's inverse-permittivity
+    /// tensor.
     pub eps_r: Vec<f64>,
+    /// Off-diagonal (r, z) entry of the node's inverse relative-permittivity
+    /// tensor (zero but at curved interfaces; always zero for E_φ).
+    pub inv_eps_rz: Vec<f64>,
     /// Whether the node is held at zero by metal.
     pub pec: Vec<bool>,
 }
@@ -139,6 +150,7 @@ fn node_in_metal(bodies: &[Body], r: f64, z: f64, slack: f64) -> bool {
 fn fill_component(grid: &Grid, bodies: &[Body], c: Component, samples: usize) -> NodeMaterial {
     let (ni, nj) = c.shape(grid);
     let mut eps_r = vec![1.0; ni * nj];
+    let mut inv_eps_rz = vec![0.0; ni * nj];
     let mut pec = vec![false; ni * nj];
     let slack = 1e-6 * grid.dr.min(grid.dz);
     let (r_lim, z_lo, z_hi) = (grid.radius(), grid.z0, grid.z_top());
@@ -155,10 +167,14 @@ fn fill_component(grid: &Grid, bodies: &[Body], c: Component, samples: usize) ->
             let r1 = (r + 0.5 * grid.dr).min(r_lim);
             let z0 = (z - 0.5 * grid.dz).max(z_lo);
             let z1 = (z + 0.5 * grid.dz).min(z_hi);
-            eps_r[k] = cell_average(bodies, c, (r0, r1, z0, z1), samples);
+            (eps_r[k], inv_eps_rz[k]) = cell_average(bodies, c, (r0, r1, z0, z1), samples);
         }
     }
-    NodeMaterial { eps_r, pec }
+    NodeMaterial {
+        eps_r,
+        inv_eps_rz,
+        pec,
+    }
 }
 
 /// The directional mean of ε over one dual cell (see the module docs),
@@ -170,7 +186,7 @@ fn cell_average(
     c: Component,
     (r0, r1, z0, z1): (f64, f64, f64, f64),
     _samples: usize,
-) -> f64 {
+) -> (f64, f64) {
     // Fast path: no surface crosses the cell, so ε is uniform on it.
     let mut uniform = true;
     let mut eps = 1.0;
@@ -189,7 +205,7 @@ fn cell_average(
         }
     }
     if uniform {
-        return if metal { 1.0 } else { eps };
+        return (if metal { 1.0 } else { eps }, 0.0);
     }
     if !bodies.iter().all(|b| b.shape.is_rectangle()) {
         return curved_cell(bodies, c, (r0, r1, z0, z1));
@@ -265,55 +281,76 @@ fn cell_average(
             }
         }
     }
-    if den > 0.0 {
-        num / den
-    } else {
-        1.0
-    }
+    (if den > 0.0 { num / den } else { 1.0 }, 0.0)
 }
 
 /// Samples per direction for the E_φ mean over a cell cut by a curved surface.
 const CURVED_SAMPLES: usize = 32;
 
-/// The value for a cell cut by a curved surface.
+/// The anisotropic average for a cell cut by a curved or slanted surface
+/// (Kottke, Farjadpour & Johnson, Phys. Rev. E 77, 036611, 2008): with n the
+/// unit normal of the interface in the cell, the inverse permittivity tensor
+/// in the (r, z) plane is
 ///
-/// E_φ is tangential to every interface of a body of revolution, so its
-/// right value is the r-weighted arithmetic mean over the dual cell, taken
-/// here by the midpoint rule on 32 × 32 points. E_r and E_z take the
-/// material at the node (staircase).
+/// ε⁻¹ = ⟨ε⁻¹⟩ n nᵀ + ⟨ε⟩⁻¹ (1 − n nᵀ),
 ///
-/// Why not an anisotropic mean for E_r, E_z: measured on a dielectric sphere
-/// (ε_r 38, radius 4.7 mm, cells 0.25 and 0.125 mm, exact references of
-/// `lathe_solver::exact::sphere`), the diagonal part of the anisotropic
-/// average (Kottke, Farjadpour & Johnson, Phys. Rev. E 77, 036611, 2008)
-/// without its off-diagonal terms was worse than the staircase (+1.1 % vs
-/// +0.4 % in f for TE1 at m = 1 and TM1 at m = 0), and the isotropic mean,
-/// right for E tangential to the surface, was 10 % off in Q for TM1. The full
-/// tensor, which couples E_r and E_z, is what restores second order; until
-/// the kernel carries it, curved surfaces converge at first order (faces of
-/// cylinders and rings keep their exact directional means above).
-fn curved_cell(bodies: &[Body], c: Component, (r0, r1, z0, z1): (f64, f64, f64, f64)) -> f64 {
-    if c != Component::Ephi {
-        return material_at(bodies, 0.5 * (r0 + r1), 0.5 * (z0 + z1)).unwrap_or(1.0);
-    }
+/// the means r-weighted over the dual cell by the midpoint rule on 32 × 32
+/// points, n the direction in which ε grows across the cell (the ε-weighted
+/// first moment of the samples). Returned: 1/(ε⁻¹)_uu for the node's own
+/// direction u, and the off-diagonal (ε⁻¹)_rz, which the solver applies as a
+/// coupling between E_r and E_z nodes. E_φ is tangential to every interface
+/// of a body of revolution: its value is the arithmetic mean, no coupling.
+fn curved_cell(
+    bodies: &[Body],
+    c: Component,
+    (r0, r1, z0, z1): (f64, f64, f64, f64),
+) -> (f64, f64) {
     let n = CURVED_SAMPLES;
     let (dr, dz) = ((r1 - r0) / n as f64, (z1 - z0) / n as f64);
-    let (mut w_sum, mut e_sum) = (0.0, 0.0);
+    let (mut w_sum, mut e_sum, mut inv_sum) = (0.0, 0.0, 0.0);
+    let (mut cr, mut cz) = (0.0, 0.0);
+    let mut samples = Vec::with_capacity(n * n);
     for a in 0..n {
         let r = r0 + (a as f64 + 0.5) * dr;
         for b in 0..n {
             let z = z0 + (b as f64 + 0.5) * dz;
             if let Some(e) = material_at(bodies, r, z) {
-                w_sum += r;
-                e_sum += r * e;
+                let w = r;
+                w_sum += w;
+                e_sum += w * e;
+                inv_sum += w / e;
+                cr += w * r;
+                cz += w * z;
+                samples.push((r, z, w, e));
             }
         }
     }
-    if w_sum > 0.0 {
-        e_sum / w_sum
-    } else {
-        1.0
+    if w_sum <= 0.0 {
+        return (1.0, 0.0);
     }
+    let (mean, inv_mean) = (e_sum / w_sum, inv_sum / w_sum);
+    if c == Component::Ephi {
+        return (mean, 0.0);
+    }
+    let (cr, cz) = (cr / w_sum, cz / w_sum);
+    let (mut mr, mut mz) = (0.0, 0.0);
+    for &(r, z, w, e) in &samples {
+        mr += w * (e - mean) * (r - cr);
+        mz += w * (e - mean) * (z - cz);
+    }
+    let norm = (mr * mr + mz * mz).sqrt();
+    if norm == 0.0 {
+        return (mean, 0.0);
+    }
+    let (nr, nz) = (mr / norm, mz / norm);
+    let (a, b) = (inv_mean, 1.0 / mean);
+    let t_rz = nr * nz * (a - b);
+    let t_uu = if c == Component::Er {
+        nr * nr * a + (1.0 - nr * nr) * b
+    } else {
+        nz * nz * a + (1.0 - nz * nz) * b
+    };
+    (1.0 / t_uu, t_rz)
 }
 
 #[cfg(test)]

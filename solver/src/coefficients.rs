@@ -42,6 +42,9 @@ pub struct Coefficients {
     pub hz_in: Vec<f64>,
     /// Update rows in parallel (for large grids; see [`crate::kernel`]).
     pub row_parallel: bool,
+    /// Off-diagonal permittivity coupling of E_r and E_z at curved
+    /// interfaces, if any (see [`Coupling`]).
+    pub coupling: Option<Coupling>,
     /// Wall at z_min.
     pub bottom: ZWall,
     /// Wall at z_max.
@@ -119,6 +122,7 @@ impl Coefficients {
             hz_out: (0..nr).map(|i| r_int(i + 1) / (r_half(i) * g.dr)).collect(),
             hz_in: (0..nr).map(|i| r_int(i) / (r_half(i) * g.dr)).collect(),
             row_parallel: false,
+            coupling: Coupling::new(map, walls, m, dt),
             bottom: walls.bottom,
             top: walls.top,
         }
@@ -133,6 +137,13 @@ impl Coefficients {
         for v in [&mut c.cb_er, &mut c.cb_ephi, &mut c.cb_ez] {
             v.iter_mut().for_each(|x| *x *= s);
         }
+        if let Some(cp) = c.coupling.as_mut() {
+            for list in [&mut cp.er, &mut cp.ez] {
+                for (_, taps) in list.iter_mut() {
+                    taps.iter_mut().for_each(|t| t.1 *= s);
+                }
+            }
+        }
         c
     }
 
@@ -144,5 +155,100 @@ impl Coefficients {
             Component::Ez => &self.cb_ez,
             _ => panic!("expected an electric component, got {c:?}"),
         }
+    }
+}
+
+/// The off-diagonal part of the anisotropic permittivity at curved
+/// interfaces: E_r at (i+½, j) takes (Δt/ε0)·Σ M_lk C_z(k) over its four
+/// neighbouring E_z nodes k, and E_z takes (Δt/ε0)·Σ M_kl C_r(l) over its
+/// four E_r neighbours, C the curl of H at the node (the D increment over
+/// ε0 Δt).
+///
+/// The pair coefficient t = ⅛ (T_rz(l) + T_rz(k)) — the mean of the two
+/// nodes' off-diagonal inverse permittivities, over the four neighbours —
+/// is split as M_lk = t·w_k/w̄, M_kl = t·w_l/w̄ (w the node volume weights,
+/// w̄ their mean), so that M_lk/w_k = M_kl/w_l: the whole E-from-D map stays
+/// symmetric in the energy inner product, which keeps the scheme's modes
+/// real (a stability requirement for anisotropic FDTD; Werner & Cary, J.
+/// Comput. Phys. 226, 2007, make the same point).
+#[derive(Debug, Clone)]
+pub struct Coupling {
+    /// Per E_r node: its flat index and (E_z index, coefficient) taps.
+    pub er: Vec<(usize, Vec<(usize, f64)>)>,
+    /// Per E_z node: its flat index and (E_r index, coefficient) taps.
+    pub ez: Vec<(usize, Vec<(usize, f64)>)>,
+}
+
+impl Coupling {
+    /// The coupling of `map` for order `m` and step `dt`, or `None` when no
+    /// node has an off-diagonal permittivity.
+    pub fn new(map: &MaterialMap, walls: &Walls, m: u32, dt: f64) -> Option<Coupling> {
+        let g = &map.grid;
+        if map
+            .er
+            .inv_eps_rz
+            .iter()
+            .chain(&map.ez.inv_eps_rz)
+            .all(|&x| x == 0.0)
+        {
+            return None;
+        }
+        let (nr, nz) = (g.nr, g.nz);
+        let nj1 = nz + 1;
+        let held_er = |i: usize, j: usize| {
+            map.er.pec[i * nj1 + j]
+                || (j == 0 && walls.bottom.is_conducting())
+                || (j == nz && walls.top.is_conducting())
+        };
+        let held_ez = |i: usize, j: usize| map.ez.pec[i * nz + j] || i == nr || (i == 0 && m >= 1);
+        let w_er = |i: usize, j: usize| {
+            let mut w = g.r_half(i);
+            if (j == 0 && walls.bottom == ZWall::Pmc) || (j == nz && walls.top == ZWall::Pmc) {
+                w *= 0.5;
+            }
+            w
+        };
+        let w_ez = |i: usize| if i == 0 { g.dr / 8.0 } else { g.r_int(i) };
+        let scale = dt / crate::consts::EPS0;
+        let mut er = Vec::new();
+        let mut ez: Vec<(usize, Vec<(usize, f64)>)> = Vec::new();
+        let mut ez_taps: std::collections::BTreeMap<usize, Vec<(usize, f64)>> = Default::default();
+        for i in 0..nr {
+            for j in 0..=nz {
+                if held_er(i, j) {
+                    continue;
+                }
+                let l = i * nj1 + j;
+                let tl = map.er.inv_eps_rz[l];
+                let mut taps = Vec::new();
+                for (ki, kj) in [
+                    (i, j.wrapping_sub(1)),
+                    (i, j),
+                    (i + 1, j.wrapping_sub(1)),
+                    (i + 1, j),
+                ] {
+                    if kj >= nz || held_ez(ki, kj) {
+                        continue;
+                    }
+                    let k = ki * nz + kj;
+                    let t = 0.125 * (tl + map.ez.inv_eps_rz[k]);
+                    if t == 0.0 {
+                        continue;
+                    }
+                    let (wl, wk) = (w_er(i, j), w_ez(ki));
+                    let wbar = 0.5 * (wl + wk);
+                    taps.push((k, scale * t * wk / wbar));
+                    ez_taps
+                        .entry(k)
+                        .or_default()
+                        .push((l, scale * t * wl / wbar));
+                }
+                if !taps.is_empty() {
+                    er.push((l, taps));
+                }
+            }
+        }
+        ez.extend(ez_taps);
+        Some(Coupling { er, ez })
     }
 }

@@ -191,6 +191,47 @@ pub fn update_e(f: &mut Fields, c: &Coefficients) {
             ez[j] += cb[j] * 4.0 * idr * hp[j];
         }
     }
+    // Off-diagonal permittivity at curved interfaces (few nodes).
+    if let Some(cp) = &c.coupling {
+        for (l, taps) in &cp.er {
+            let s: f64 = taps.iter().map(|&(k, w)| w * curl_z(hr, hphi, c, k)).sum();
+            er[*l] += s;
+        }
+        for (k, taps) in &cp.ez {
+            let s: f64 = taps.iter().map(|&(l, w)| w * curl_r(hphi, hz, c, l)).sum();
+            ez[*k] += s;
+        }
+    }
+}
+
+/// (∇×H)_z at E_z node `k` as in [`update_e`] (without the 1/ε factor).
+fn curl_z(hr: &[f64], hphi: &[f64], c: &Coefficients, k: usize) -> f64 {
+    let nz = c.nz;
+    let (i, j) = (k / nz, k % nz);
+    if i == 0 {
+        return 4.0 * c.inv_dr * hphi[j];
+    }
+    c.ez_out[i] * hphi[i * nz + j]
+        - c.ez_in[i] * hphi[(i - 1) * nz + j]
+        - c.m_over_r_int[i] * hr[i * nz + j]
+}
+
+/// (∇×H)_r at E_r node `l` as in [`update_e`], with the PMC images.
+fn curl_r(hphi: &[f64], hz: &[f64], c: &Coefficients, l: usize) -> f64 {
+    let (nz, nj1) = (c.nz, c.nz + 1);
+    let (i, j) = (l / nj1, l % nj1);
+    let img = |w: ZWall| if w == ZWall::Pmc { -1.0 } else { 0.0 };
+    let above = if j < nz {
+        hphi[i * nz + j]
+    } else {
+        img(c.top) * hphi[i * nz + nz - 1]
+    };
+    let below = if j > 0 {
+        hphi[i * nz + j - 1]
+    } else {
+        img(c.bottom) * hphi[i * nz]
+    };
+    c.m_over_r_half[i] * hz[l] - (above - below) * c.inv_dz
 }
 
 /// Writes the derived axis values of order m = 1 (e_φ(0) = −e_r(0),

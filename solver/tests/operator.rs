@@ -392,3 +392,109 @@ fn kernel_matches_a_direct_transcription_of_the_equations() {
         }
     }
 }
+
+#[test]
+fn anisotropic_coupling_is_symmetric_and_keeps_the_spectrum_real() {
+    // A sphere (ε_r 9.3, radius 1.3 mm) on a PMC plane in a PEC can: its
+    // cut cells carry off-diagonal permittivity couplings. The E-from-D map
+    // must satisfy M_lk/w_k = M_kl/w_l, and the curl-curl operator must
+    // keep real, non-negative eigenvalues (else modes would grow).
+    let g = Grid::new(2.5e-3, 0.0, 2.0e-3, 0.25e-3).unwrap();
+    let sphere = Body {
+        shape: Shape::Sphere {
+            radius: 1.3e-3,
+            center: 0.0,
+        },
+        material: Material::Dielectric {
+            eps_r: 9.3,
+            loss_tangent: 0.0,
+        },
+    };
+    let map = fill(&g, &[sphere], FillOptions::default());
+    let walls = Walls {
+        bottom: ZWall::Pmc,
+        top: ZWall::Pec,
+        outer: OuterWall::Pec,
+    };
+    for m in [0u32, 1, 2] {
+        let c = Coefficients::new(&map, &walls, m, 1.0);
+        let cp = c.coupling.as_ref().expect("a sphere has cut cells");
+        assert!(!cp.er.is_empty() && !cp.ez.is_empty());
+        let nj1 = g.nz + 1;
+        let w_er = |l: usize| {
+            let (i, j) = (l / nj1, l % nj1);
+            g.r_half(i) * if j == 0 { 0.5 } else { 1.0 }
+        };
+        let w_ez = |k: usize| {
+            let i = k / g.nz;
+            if i == 0 {
+                g.dr / 8.0
+            } else {
+                g.r_int(i)
+            }
+        };
+        for (l, taps) in &cp.er {
+            for &(k, mlk) in taps {
+                let mkl = cp
+                    .ez
+                    .iter()
+                    .find(|x| x.0 == k)
+                    .and_then(|x| x.1.iter().find(|t| t.0 == *l))
+                    .map(|t| t.1)
+                    .unwrap();
+                let (a, b) = (mlk / w_ez(k), mkl / w_er(*l));
+                assert!(
+                    (a - b).abs() <= 1e-12 * a.abs().max(b.abs()),
+                    "m = {m}: M_lk/w_k {a} vs M_kl/w_l {b}"
+                );
+            }
+        }
+        // Dense curl-curl operator on the free E nodes, from the kernel.
+        let en = nodes(&g, &E);
+        let free: Vec<usize> = (0..en.len())
+            .filter(|&a| c.cb(en[a].0)[en[a].1] != 0.0)
+            .collect();
+        let n = free.len();
+        let mut a = Mat::<f64>::zeros(n, n);
+        let mut f = Fields::zeros(&g);
+        for (col, &b) in free.iter().enumerate() {
+            f.clear();
+            f.get_mut(en[b].0)[en[b].1] = 1.0;
+            update_h(&mut f, &c);
+            for comp in E {
+                f.get_mut(comp).fill(0.0);
+            }
+            update_e(&mut f, &c);
+            for (row, &r) in free.iter().enumerate() {
+                a[(row, col)] = -f.get(en[r].0)[en[r].1];
+            }
+        }
+        let eig = a.eigenvalues().unwrap();
+        let top = eig.iter().map(|z| z.norm()).fold(0.0, f64::max);
+        let worst_im = eig.iter().map(|z| z.im.abs()).fold(0.0, f64::max);
+        let min_re = eig.iter().map(|z| z.re).fold(f64::INFINITY, f64::min);
+        eprintln!(
+            "m = {m}: {n} nodes, max |Im λ|/max|λ| = {:.1e}, min Re λ/max|λ| = {:.1e}",
+            worst_im / top,
+            min_re / top
+        );
+        assert!(
+            worst_im <= 1e-9 * top,
+            "m = {m}: complex eigenvalues, |Im| up to {worst_im:e}"
+        );
+        assert!(
+            min_re >= -1e-9 * top,
+            "m = {m}: negative eigenvalue {min_re:e}"
+        );
+        // The Δt limit still comes from the right λ_max (the Lanczos inner
+        // product ignores the few off-diagonal entries).
+        let lim = stability_limit(&map, &walls, m);
+        let rel = (lim.lambda_max / top - 1.0).abs();
+        eprintln!("m = {m}: Lanczos λ_max vs dense {rel:.1e}");
+        assert!(
+            rel < 1e-3,
+            "m = {m}: Lanczos {:e} vs dense {top:e}",
+            lim.lambda_max
+        );
+    }
+}
