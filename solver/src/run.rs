@@ -235,6 +235,17 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
                 accs.push(Accumulator::new(fs, &f));
             }
         }
+        if !scout {
+            // A transform that matches none of the modes found (a scout's
+            // fit that did not survive) is dropped: it would cost work at
+            // every sample for nothing.
+            accs.retain(|a| {
+                found.iter().any(|md| {
+                    let tol = (0.5 / md.q.max(1.0)).max(1e-4);
+                    (a.freq_hz / sampled(md) - 1.0).abs() < tol
+                })
+            });
+        }
         if scout {
             continue;
         }
