@@ -81,6 +81,10 @@ pub struct RunOutput {
     /// The field of each mode (same order as `modes`), from a running
     /// transform over the ring-down; `None` where memory did not allow one.
     pub mode_fields: Vec<Option<ModeField>>,
+    /// The grid the run was solved on (absorber cells included).
+    pub grid: lathe_mesh::Grid,
+    /// The walls of the run (absorber thicknesses in cells among them).
+    pub walls: crate::boundary::Walls,
 }
 
 /// Plans and runs every order of `ms` in parallel (rayon), and labels the
@@ -326,6 +330,8 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         signals,
         fields: f,
         mode_fields,
+        grid: g.clone(),
+        walls: problem.walls.clone(),
     })
 }
 
