@@ -5,7 +5,7 @@
 use clap::{Parser, Subcommand};
 use lathe::output;
 use lathe::scenario::{Scenario, ScenarioError};
-use lathe::study::{run_study, StudyError};
+use lathe::study::{run_count, run_study_with, StudyError, StudyOptions, DEFAULT_MAX_MEMORY};
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -29,9 +29,20 @@ enum Command {
         /// Azimuthal orders to search, overriding the file (e.g. 0,1).
         #[arg(long, value_delimiter = ',')]
         m: Option<Vec<u32>>,
+        /// Write everything into the results folder DIR: modes.json,
+        /// modes.csv, fields.h5 and plots/ (created if missing).
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
         /// Write results as JSON to PATH ("-" for standard output).
         #[arg(long, value_name = "PATH")]
         json: Option<PathBuf>,
+        /// Write the mode table as CSV to PATH ("-" for standard output).
+        #[arg(long, value_name = "PATH")]
+        csv: Option<PathBuf>,
+        /// Memory cap for the runs that step at once, e.g. 6G, 800M
+        /// (binary units; a bare number is MiB). Default 4G.
+        #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+        max_memory: Option<usize>,
         /// Worker threads (default: all cores).
         #[arg(long)]
         threads: Option<usize>,
@@ -47,14 +58,59 @@ enum Command {
         #[arg(long)]
         refine: bool,
     },
-    /// Print the plan of each run without stepping any field.
+    /// Print the plan of each run without stepping any field: grid, time
+    /// step, absorber, sources and probes, memory, estimated run time, and
+    /// every warning.
     Check {
         /// Scenario file (TOML).
         file: PathBuf,
         /// Azimuthal orders, overriding the file.
         #[arg(long, value_delimiter = ',')]
         m: Option<Vec<u32>>,
+        /// Worker threads the estimate assumes (default: all cores).
+        #[arg(long)]
+        threads: Option<usize>,
+        /// Memory cap to check against (as for `lathe modes`).
+        #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+        max_memory: Option<usize>,
+        /// Skip the short timing of this machine's stepping rate (and with
+        /// it the run-time estimate).
+        #[arg(long)]
+        no_timing: bool,
     },
+}
+
+/// A memory size: a number with an optional binary suffix K, M, G, T
+/// (KiB … TiB; "B" and "iB" accepted after it); a bare number is MiB.
+fn parse_size(text: &str) -> Result<usize, String> {
+    let t = text.trim();
+    let lower = t.to_ascii_lowercase();
+    let body = lower
+        .strip_suffix("ib")
+        .or_else(|| lower.strip_suffix('b'))
+        .unwrap_or(&lower);
+    let (num, scale) = match body.chars().last() {
+        Some('k') => (&body[..body.len() - 1], 1u64 << 10),
+        Some('m') => (&body[..body.len() - 1], 1 << 20),
+        Some('g') => (&body[..body.len() - 1], 1 << 30),
+        Some('t') => (&body[..body.len() - 1], 1 << 40),
+        _ => (body, 1 << 20),
+    };
+    let x: f64 = num
+        .trim()
+        .parse()
+        .map_err(|_| format!("{t:?} is not a memory size; write e.g. 6G, 800M or 1.5G"))?;
+    if !(x.is_finite() && x > 0.0) {
+        return Err(format!("{t:?}: the memory cap must be a positive size"));
+    }
+    let bytes = x * scale as f64;
+    if bytes < 1048576.0 || bytes > usize::MAX as f64 {
+        return Err(format!(
+            "{t:?}: the memory cap must be between 1M and {}T",
+            usize::MAX >> 40
+        ));
+    }
+    Ok(bytes as usize)
 }
 
 enum Failure {
@@ -108,16 +164,6 @@ fn load(file: &PathBuf, m: &Option<Vec<u32>>) -> Result<Scenario, Failure> {
     Ok(s)
 }
 
-fn write_json(path: &std::path::Path, doc: String) -> Result<(), Failure> {
-    if path.as_os_str() == "-" {
-        emit(&format!("{doc}\n"));
-        Ok(())
-    } else {
-        std::fs::write(path, doc + "\n")
-            .map_err(|e| Failure::Input(format!("--json {}: cannot write: {e}", path.display())))
-    }
-}
-
 fn failure(e: StudyError, name: &str) -> Failure {
     match e {
         StudyError::Input(e) => Failure::Input(
@@ -127,7 +173,11 @@ fn failure(e: StudyError, name: &str) -> Failure {
             }
             .to_string(),
         ),
+        StudyError::Run(e @ lathe::solver::SolverError::TooMuchMemory { .. }) => {
+            Failure::Input(e.to_string())
+        }
         StudyError::Run(e) => Failure::Run(e.to_string()),
+        StudyError::TooBig(msg) => Failure::Input(format!("{name}: {msg}")),
     }
 }
 
@@ -143,18 +193,120 @@ fn problem_of(s: &Scenario, name: &str) -> Result<lathe::solver::Problem, Failur
     })
 }
 
+fn pool(threads: Option<usize>) -> Result<rayon::ThreadPool, Failure> {
+    if threads == Some(0) {
+        return Err(Failure::Input(
+            "--threads 0: at least one thread is needed".into(),
+        ));
+    }
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads.unwrap_or(0))
+        .build()
+        .map_err(|e| Failure::Run(format!("cannot start worker threads: {e}")))
+}
+
+/// Where `lathe modes` writes, checked before any run starts so that a long
+/// run never ends in an unwritable path.
+struct Outputs {
+    json: Option<PathBuf>,
+    csv: Option<PathBuf>,
+}
+
+impl Outputs {
+    fn new(
+        out: Option<PathBuf>,
+        json: Option<PathBuf>,
+        csv: Option<PathBuf>,
+    ) -> Result<Outputs, Failure> {
+        let mut o = Outputs { json, csv };
+        if let Some(dir) = out {
+            std::fs::create_dir_all(&dir).map_err(|e| {
+                Failure::Input(format!(
+                    "--out {}: cannot create the results folder: {e}",
+                    dir.display()
+                ))
+            })?;
+            if !dir.is_dir() {
+                return Err(Failure::Input(format!(
+                    "--out {}: exists and is not a folder",
+                    dir.display()
+                )));
+            }
+            o.json.get_or_insert(dir.join("modes.json"));
+            o.csv.get_or_insert(dir.join("modes.csv"));
+        }
+        for (flag, path) in [("--json", &o.json), ("--csv", &o.csv)] {
+            if let Some(p) = path {
+                writable(flag, p)?;
+            }
+        }
+        Ok(o)
+    }
+}
+
+/// Checks that a file can be created at `path` ("-" is standard output):
+/// its folder exists and is a folder, and the path is not a folder.
+fn writable(flag: &str, path: &std::path::Path) -> Result<(), Failure> {
+    if path.as_os_str() == "-" {
+        return Ok(());
+    }
+    if path.is_dir() {
+        return Err(Failure::Input(format!(
+            "{flag} {}: is a folder; give a file name",
+            path.display()
+        )));
+    }
+    let parent = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => std::path::Path::new("."),
+    };
+    if !parent.is_dir() {
+        return Err(Failure::Input(format!(
+            "{flag} {}: the folder {} does not exist",
+            path.display(),
+            parent.display()
+        )));
+    }
+    Ok(())
+}
+
+fn write_file(flag: &str, path: &std::path::Path, text: &str) -> Result<(), Failure> {
+    if path.as_os_str() == "-" {
+        emit(text);
+        Ok(())
+    } else {
+        std::fs::write(path, text)
+            .map_err(|e| Failure::Input(format!("{flag} {}: cannot write: {e}", path.display())))
+    }
+}
+
 fn real_main(cli: Cli) -> Result<(), Failure> {
     match cli.command {
-        Command::Check { file, m } => {
+        Command::Check {
+            file,
+            m,
+            threads,
+            max_memory,
+            no_timing,
+        } => {
             let s = load(&file, &m)?;
             let name = file.display().to_string();
-            emit(&output::plan_text(&s).map_err(|e| failure(e, &name))?);
+            let options = StudyOptions {
+                max_memory: max_memory.unwrap_or(DEFAULT_MAX_MEMORY),
+            };
+            let text = pool(threads)?
+                .install(|| output::plan_text(&s, &options, !no_timing))
+                .map_err(|e| failure(e, &name))?;
+            emit(&text);
             Ok(())
         }
         Command::Modes {
             file,
             m,
+            out,
             json,
+            csv,
+            max_memory,
             threads,
             quiet,
             compare_formulas,
@@ -163,15 +315,11 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             let s = load(&file, &m)?;
             let name = file.display().to_string();
             let problem = problem_of(&s, &name)?;
-            if let Some(n) = threads {
-                if n == 0 {
-                    return Err(Failure::Input("--threads must be at least 1".into()));
-                }
-            }
-            let pool = rayon::ThreadPoolBuilder::new()
-                .num_threads(threads.unwrap_or(0))
-                .build()
-                .map_err(|e| Failure::Run(format!("cannot start worker threads: {e}")))?;
+            let pool = pool(threads)?;
+            let outputs = Outputs::new(out, json, csv)?;
+            let options = StudyOptions {
+                max_memory: max_memory.unwrap_or(DEFAULT_MAX_MEMORY),
+            };
             if !quiet {
                 let g = &problem.materials.grid;
                 eprintln!(
@@ -185,15 +333,16 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                     s.f_max / 1e9
                 );
             }
+            drop(problem);
             if refine {
                 let r = pool
                     .install(|| lathe::refine::refine(&s))
                     .map_err(|e| failure(e, &name))?;
                 emit(&output::refined_table(&r));
-                if let Some(path) = json {
+                if let Some(path) = &outputs.json {
                     let doc = serde_json::to_string_pretty(&output::refined_json(&r))
                         .expect("JSON of plain numbers");
-                    write_json(&path, doc)?;
+                    write_file("--json", path, &(doc + "\n"))?;
                 }
                 if r.modes.is_empty() {
                     return Err(Failure::Run(
@@ -203,9 +352,10 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                 }
                 return Ok(());
             }
-            let study = pool
-                .install(|| run_study(&s))
-                .map_err(|e| failure(e, &name))?;
+            let bar = lathe::progress::Bar::new(run_count(&s), quiet);
+            let study = pool.install(|| run_study_with(&s, &options, &bar));
+            bar.finish();
+            let study = study.map_err(|e| failure(e, &name))?;
             let runs: Vec<&lathe::solver::RunOutput> =
                 study.runs.iter().map(|r| &r.output).collect();
             for r in &runs {
@@ -229,10 +379,13 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             if compare_formulas {
                 emit(&lathe::formulas::comparison_text(&s, &study));
             }
-            if let Some(path) = json {
+            if let Some(path) = &outputs.json {
                 let doc = serde_json::to_string_pretty(&output::json(&study))
                     .expect("JSON of plain numbers");
-                write_json(&path, doc)?;
+                write_file("--json", path, &(doc + "\n"))?;
+            }
+            if let Some(path) = &outputs.csv {
+                write_file("--csv", path, &output::csv(&study))?;
             }
             if runs.iter().all(|r| r.modes.is_empty()) {
                 return Err(Failure::Run(format!(

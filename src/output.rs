@@ -52,6 +52,38 @@ pub fn table(study: &Study) -> String {
     s
 }
 
+/// The mode table as CSV (RFC 4180, comma-separated, one header line), in
+/// the order of [`table`]: `index,m,label,freq_ghz,q,q_is_lower_bound,
+/// error,amplitude,plane`. Frequencies in GHz with 9 significant digits,
+/// Q with 6; `plane` is empty for a whole-region run.
+pub fn csv(study: &Study) -> String {
+    let mut s = String::from("index,m,label,freq_ghz,q,q_is_lower_bound,error,amplitude,plane\n");
+    for (k, (m, plane)) in study.modes().iter().enumerate() {
+        s.push_str(&format!(
+            "{},{},{},{:.9e},{:.6e},{},{:.3e},{:.6e},{}\n",
+            k,
+            m.m,
+            csv_field(&m.label),
+            m.freq_hz / 1e9,
+            m.q,
+            m.q_is_lower_bound,
+            m.error,
+            m.amplitude,
+            plane_name(*plane)
+        ));
+    }
+    s
+}
+
+/// A CSV field, quoted when it holds a comma, quote or line break.
+fn csv_field(text: &str) -> String {
+    if text.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
 /// The JSON document: `{"modes": [...], "runs": [...]}`.
 pub fn json(study: &Study) -> Value {
     let modes: Vec<Value> = study
@@ -99,11 +131,28 @@ pub fn json(study: &Study) -> Value {
     json!({ "modes": modes, "runs": runs })
 }
 
-/// The plan of every run of `scenario`, as text (what `lathe check` prints).
-pub fn plan_text(scenario: &crate::scenario::Scenario) -> Result<String, crate::study::StudyError> {
-    use crate::study::{problems, StudyError};
+/// The plan of every run of `scenario`, as text (what `lathe check`
+/// prints): per run the grid, absorber, walls, band, time step and its
+/// margin, pulse, sampling, length, sources and probes, memory; then the
+/// totals — cell updates at most, memory of the runs that step at once
+/// against the cap, and (when `measure` is set) a run-time estimate from
+/// this machine's stepping rate, timed for a fraction of a second on the
+/// largest run's own coefficients (scratch fields; nothing is solved).
+pub fn plan_text(
+    scenario: &crate::scenario::Scenario,
+    options: &crate::study::StudyOptions,
+    measure: bool,
+) -> Result<String, crate::study::StudyError> {
+    use crate::study::{concurrent_runs, problems, StudyError};
+    use std::fmt::Write;
     let mut s = String::new();
-    let probs = problems(scenario).map_err(StudyError::Input)?;
+    crate::study::check_size(scenario, options)?;
+    let mut probs = problems(scenario).map_err(StudyError::Input)?;
+    // Plan without the per-run cap so an oversized run is shown (and
+    // flagged below) rather than refused.
+    for (_, _, p) in probs.iter_mut() {
+        p.options.max_memory = usize::MAX;
+    }
     if probs.len() == 2 {
         s.push_str("symmetry    the structure is symmetric about z = ");
         s.push_str(&format!(
@@ -111,19 +160,110 @@ pub fn plan_text(scenario: &crate::scenario::Scenario) -> Result<String, crate::
             probs[0].1.z_min * 1e3
         ));
     }
+    let concurrent = concurrent_runs(scenario);
+    let share = options.max_memory / concurrent;
+    let mut plans = Vec::new();
     for (plane, sc, problem) in &probs {
         if let Some(p) = plane {
             s.push_str(&format!("half        mid-plane {}\n", plane_name(Some(*p))));
         }
-        s.push_str(&plan_one(sc, problem).map_err(StudyError::Run)?);
+        let (text, ps) = plan_one(sc, problem).map_err(StudyError::Run)?;
+        s.push_str(&text);
+        for p in ps {
+            plans.push((problem, p));
+        }
+    }
+    let total: u64 = plans
+        .iter()
+        .map(|(pr, p)| lathe_solver::run::planned_cell_updates(pr, p))
+        .sum();
+    // The stopping rule can be met at the second check at the earliest.
+    let early: u64 = plans
+        .iter()
+        .map(|(pr, p)| {
+            let checks = p.checks();
+            let samples = checks.get(1).or(checks.first()).copied().unwrap_or(0);
+            (p.source_steps + samples * p.decimation) as u64 * pr.materials.grid.cells() as u64
+        })
+        .sum();
+    let mut mem: Vec<usize> = plans.iter().map(|(_, p)| p.memory_bytes).collect();
+    mem.sort_unstable_by(|a, b| b.cmp(a));
+    let at_once: usize = mem.iter().take(concurrent).sum();
+    let mib = |b: usize| b as f64 / 1048576.0;
+    let _ = writeln!(
+        s,
+        "total       {} run(s), {:.3e} cell updates if the modes settle at the second check, at most {:.3e}",
+        plans.len(),
+        early as f64,
+        total as f64
+    );
+    let _ = writeln!(
+        s,
+        "memory      at most {:.1} MiB for {} run(s) stepping at once; cap {:.0} MiB ({:.0} MiB per run; --max-memory)",
+        mib(at_once),
+        concurrent,
+        mib(options.max_memory),
+        mib(share)
+    );
+    for (pr, p) in &plans {
+        if p.memory_bytes > share {
+            let _ = writeln!(
+                s,
+                "warning     run m = {} needs about {:.0} MiB, above its share of the cap: `lathe modes` will refuse it",
+                p.m,
+                mib(p.memory_bytes)
+            );
+        }
+        let _ = pr;
+    }
+    if measure {
+        if let Some((pr, p)) = plans.iter().max_by_key(|(pr, _)| pr.materials.grid.cells()) {
+            let rate = lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25);
+            let g = &pr.materials.grid;
+            // Small grids step one run per thread; large ones split their
+            // rows over the pool (then the timed rate is already the pool's).
+            let runs_in_parallel = if g.cells() >= pr.options.row_parallel_cells {
+                1
+            } else {
+                concurrent
+            };
+            let seconds = |n: u64| n as f64 / (rate * runs_in_parallel as f64);
+            let _ = writeln!(
+                s,
+                "machine     {:.3e} cell updates/s per run on the {} × {} grid ({} thread(s); timed just now)",
+                rate,
+                g.nr,
+                g.nz,
+                rayon::current_num_threads()
+            );
+            let _ = writeln!(
+                s,
+                "run time    about {} if the modes settle at the second check, at most about {} (planned maximum lengths)",
+                duration_text(seconds(early)),
+                duration_text(seconds(total))
+            );
+        }
     }
     Ok(s)
+}
+
+/// A duration for people: "0.8 s", "42 s", "3.5 min", "1.2 h".
+pub fn duration_text(seconds: f64) -> String {
+    if seconds < 10.0 {
+        format!("{seconds:.1} s")
+    } else if seconds < 120.0 {
+        format!("{seconds:.0} s")
+    } else if seconds < 7200.0 {
+        format!("{:.1} min", seconds / 60.0)
+    } else {
+        format!("{:.1} h", seconds / 3600.0)
+    }
 }
 
 fn plan_one(
     scenario: &crate::scenario::Scenario,
     problem: &lathe_solver::Problem,
-) -> Result<String, lathe_solver::SolverError> {
+) -> Result<(String, Vec<lathe_solver::RunPlan>), lathe_solver::SolverError> {
     use std::fmt::Write;
     let g = &problem.materials.grid;
     let mut s = String::new();
@@ -163,6 +303,7 @@ fn plan_one(
     for warning in scenario.warnings(g) {
         let _ = writeln!(s, "warning     {warning}");
     }
+    let mut plans = Vec::new();
     for &m in &scenario.m {
         let p = lathe_solver::plan(problem, m)?;
         let _ = writeln!(s, "run m = {m}");
@@ -207,11 +348,15 @@ fn plan_one(
         }
         let _ = writeln!(
             s,
-            "  memory      {:.1} MiB",
-            p.memory_bytes as f64 / 1048576.0
+            "  memory      {:.1} MiB: fields, coefficients, absorber and probes {:.1} MiB, mode fields up to {} × {:.1} MiB",
+            p.memory_bytes as f64 / 1048576.0,
+            p.base_bytes as f64 / 1048576.0,
+            p.max_mode_fields,
+            p.mode_field_bytes as f64 / 1048576.0
         );
+        plans.push(p);
     }
-    Ok(s)
+    Ok((s, plans))
 }
 
 /// The refined mode table (`--refine`).

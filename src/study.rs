@@ -12,7 +12,7 @@
 use crate::scenario::{Scenario, ScenarioError};
 use lathe_mesh::Shape;
 use lathe_solver::run::label_runs;
-use lathe_solver::{solve, Mode, Problem, RunOutput, SolverError, ZWall};
+use lathe_solver::{solve_with, Mode, Problem, Progress, RunOutput, Silent, SolverError, ZWall};
 
 /// One solved run and the symmetry plane it was solved over, if any.
 #[derive(Debug, Clone)]
@@ -51,6 +51,8 @@ pub enum StudyError {
     Input(ScenarioError),
     /// A run failed.
     Run(SolverError),
+    /// The study would need more memory than its cap.
+    TooBig(String),
 }
 
 /// The two halves of a scenario that is symmetric about its mid-plane, or
@@ -113,11 +115,87 @@ pub fn problems(s: &Scenario) -> Result<Vec<(Option<ZWall>, Scenario, Problem)>,
 /// symmetric) and labels all modes together. Deterministic for any thread
 /// count.
 pub fn run_study(s: &Scenario) -> Result<Study, StudyError> {
-    let probs = problems(s).map_err(StudyError::Input)?;
+    run_study_with(s, &StudyOptions::default(), &Silent)
+}
+
+/// Default memory cap of a study, bytes (4 GiB); `--max-memory` sets it.
+pub const DEFAULT_MAX_MEMORY: usize = 4 << 30;
+
+/// How a study is run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct StudyOptions {
+    /// Memory cap for all runs that may step at once, bytes. Each run gets
+    /// an equal share: the cap divided by the number of runs the thread
+    /// pool can step at the same time (threads, at most the run count).
+    pub max_memory: usize,
+}
+
+impl Default for StudyOptions {
+    fn default() -> Self {
+        StudyOptions {
+            max_memory: DEFAULT_MAX_MEMORY,
+        }
+    }
+}
+
+/// Bytes per grid cell that setting up one run may hold at its peak: the
+/// material map (3 × 17 B per node), fields (6 × 8 B), coefficients
+/// (3 × 8 B) and the stability analysis' Lanczos vectors (3 × 6 × 8 B),
+/// rounded up. Used to refuse a hopeless grid before anything is allocated.
+pub const SETUP_BYTES_PER_CELL: usize = 256;
+
+/// Refuses a scenario whose grid cannot be set up within `max_memory`
+/// (checked from the grid size alone, before meshing), with a message that
+/// quotes the grid and the cap.
+pub fn check_size(s: &Scenario, options: &StudyOptions) -> Result<(), StudyError> {
+    let g = s.solver_grid().map_err(StudyError::Input)?;
+    let need = g.cells().saturating_mul(SETUP_BYTES_PER_CELL);
+    let share = options.max_memory / concurrent_runs(s);
+    if need > share {
+        return Err(StudyError::TooBig(format!(
+            "the grid of {} × {} = {} cells needs about {:.0} MiB per run to set up, above the memory cap of {:.0} MiB per run ({:.0} MiB for {} run(s) at once); coarsen region.cell or region.cells_per_wavelength, or raise --max-memory",
+            g.nr,
+            g.nz,
+            g.cells(),
+            need as f64 / 1048576.0,
+            share as f64 / 1048576.0,
+            options.max_memory as f64 / 1048576.0,
+            concurrent_runs(s)
+        )));
+    }
+    Ok(())
+}
+
+/// How many runs of `s` step at the same time in the current thread pool.
+pub fn concurrent_runs(s: &Scenario) -> usize {
+    rayon::current_num_threads().min(run_count(s)).max(1)
+}
+
+/// The number of runs [`run_study`] makes for `s`: one per order, twice when
+/// the structure is solved as two halves.
+pub fn run_count(s: &Scenario) -> usize {
+    s.m.len() * if halves(s).is_some() { 2 } else { 1 }
+}
+
+/// [`run_study`] reporting progress.
+pub fn run_study_with(
+    s: &Scenario,
+    options: &StudyOptions,
+    progress: &dyn Progress,
+) -> Result<Study, StudyError> {
+    check_size(s, options)?;
+    let mut probs = problems(s).map_err(StudyError::Input)?;
+    let share = options.max_memory / concurrent_runs(s);
+    for (_, _, p) in probs.iter_mut() {
+        p.options.max_memory = share;
+    }
     let solved: Vec<Result<Vec<RunOutput>, SolverError>> = match probs.as_slice() {
-        [(_, _, p)] => vec![solve(p, &s.m)],
+        [(_, _, p)] => vec![solve_with(p, &s.m, progress)],
         [(_, _, p), (_, _, q)] => {
-            let (a, b) = rayon::join(|| solve(p, &s.m), || solve(q, &s.m));
+            let (a, b) = rayon::join(
+                || solve_with(p, &s.m, progress),
+                || solve_with(q, &s.m, progress),
+            );
             vec![a, b]
         }
         _ => unreachable!("one or two problems"),

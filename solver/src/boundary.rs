@@ -84,7 +84,15 @@ pub struct Walls {
 }
 
 impl ZWall {
-    /// Name as in scenario files.
+    /// Absorber thickness in cells (0 for a PEC or PMC wall).
+    pub fn cells(self) -> usize {
+        match self {
+            ZWall::Pml(a) => a.cells,
+            _ => 0,
+        }
+    }
+
+    /// The wall's name in scenario files.
     pub fn name(self) -> &'static str {
         match self {
             ZWall::Pec => "pec",
@@ -119,7 +127,15 @@ impl OuterWall {
         }
     }
 
-    /// Name as in scenario files.
+    /// Absorber thickness in cells (0 for a PEC wall).
+    pub fn cells(self) -> usize {
+        match self {
+            OuterWall::Pml(a) => a.cells,
+            OuterWall::Pec => 0,
+        }
+    }
+
+    /// The wall's name in scenario files.
     pub fn name(self) -> &'static str {
         match self {
             OuterWall::Pec => "pec",

@@ -60,7 +60,7 @@ pub enum SolverError {
         source: HarminvError,
     },
     /// The planned run would need more memory than allowed.
-    #[error("run m = {m}: needs about {need_mib:.0} MiB, above the cap of {cap_mib:.0} MiB")]
+    #[error("run m = {m}: needs about {need_mib:.0} MiB, above its memory cap of {cap_mib:.0} MiB (raise the cap with --max-memory, or coarsen the grid with region.cell or region.cells_per_wavelength)")]
     TooMuchMemory {
         /// Order.
         m: u32,

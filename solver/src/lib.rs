@@ -35,6 +35,7 @@
 //!   spatial discretisation, second order in the cell size.
 #![deny(missing_docs)]
 
+pub mod bench;
 pub mod boundary;
 pub mod coefficients;
 pub mod consts;
@@ -58,5 +59,5 @@ pub use fields::Fields;
 pub use modefield::ModeField;
 pub use modes::Mode;
 pub use plan::{plan, Problem, RunOptions, RunPlan};
-pub use run::{run, solve, RunOutput, RunReport};
+pub use run::{run, run_with, solve, solve_with, Progress, RunOutput, RunReport, Silent};
 pub use stability::{stability_limit, StabilityLimit};

@@ -70,11 +70,6 @@ impl Accumulator {
         self.samples
     }
 
-    /// Bytes one accumulator takes on a grid with these fields.
-    pub fn bytes(f: &Fields) -> usize {
-        16 * f.bytes() / 8
-    }
-
     /// Adds the fields at time `t` (E; H at t − dt/2).
     pub fn add(&mut self, f: &Fields, t: f64, dt: f64) {
         let w = 2.0 * PI * self.freq_hz;

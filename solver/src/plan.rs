@@ -58,6 +58,10 @@ pub struct RunOptions {
     pub row_parallel_cells: usize,
     /// Memory cap per run, bytes. Default 4 GiB.
     pub max_memory: usize,
+    /// Most mode fields (running transforms) a run keeps, default 48; the
+    /// transforms of one run also never take more than
+    /// [`crate::modefield::MAX_BYTES`].
+    pub max_mode_fields: usize,
     /// Harmonic-inversion options.
     pub fdm: FdmOptions,
 }
@@ -78,6 +82,7 @@ impl Default for RunOptions {
             probes: 5,
             row_parallel_cells: 200_000,
             max_memory: 4 << 30,
+            max_mode_fields: 48,
             fdm,
         }
     }
@@ -116,8 +121,15 @@ pub struct RunPlan {
     pub f_min: f64,
     /// Band, Hz.
     pub f_max: f64,
-    /// Estimated memory, bytes.
+    /// Estimated memory, bytes: [`RunPlan::base_bytes`] plus the running
+    /// transforms at their cap.
     pub memory_bytes: usize,
+    /// Fields, coefficients, absorber state and probe signals, bytes.
+    pub base_bytes: usize,
+    /// One mode's running transform (six complex arrays), bytes.
+    pub mode_field_bytes: usize,
+    /// Most running transforms the run keeps (within its memory budget).
+    pub max_mode_fields: usize,
 }
 
 impl RunPlan {
@@ -165,9 +177,27 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
     }
     let g = &map.grid;
     let nodes = 6 * (g.nr + 1) * (g.nz + 1);
-    // Fields, three E coefficient arrays, the stability analysis' three
-    // Lanczos vectors (freed before the run), probe signals.
-    let memory_bytes = 8 * (nodes + nodes / 2) + 8 * probes.len() * max_samples;
+    // Fields (six arrays), the E coefficient arrays (three), the material
+    // map of the three E components (two f64 and a flag per node), the
+    // absorber's auxiliary fields (at most two per component in the
+    // absorber cells), probe signals; the stability analysis' Lanczos
+    // vectors are freed before the run starts.
+    let (ao, ab, at) = (
+        problem.walls.outer.cells(),
+        problem.walls.bottom.cells(),
+        problem.walls.top.cells(),
+    );
+    let absorber_nodes = 6 * ((ao + 1) * (g.nz + 1) + (ab + at + 2) * (g.nr + 1)).min(nodes / 6);
+    let base_bytes = 8 * (nodes + nodes / 2)
+        + 17 * (nodes / 2)
+        + 16 * absorber_nodes
+        + 8 * probes.len() * max_samples;
+    let mode_field_bytes = 16 * nodes;
+    let max_mode_fields = o
+        .max_mode_fields
+        .min(crate::modefield::MAX_BYTES / mode_field_bytes.max(1))
+        .max(1);
+    let memory_bytes = base_bytes + max_mode_fields * mode_field_bytes;
     if memory_bytes > o.max_memory {
         return Err(SolverError::TooMuchMemory {
             m,
@@ -192,5 +222,8 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
         f_min,
         f_max,
         memory_bytes,
+        base_bytes,
+        mode_field_bytes,
+        max_mode_fields,
     })
 }

@@ -92,9 +92,23 @@ pub struct RunOutput {
 /// results are identical for any number of threads; the first failing order
 /// (in the order of `ms`) is returned.
 pub fn solve(problem: &Problem, ms: &[u32]) -> Result<Vec<RunOutput>, SolverError> {
-    let results: Vec<Result<RunOutput, SolverError>> = ms
+    solve_with(problem, ms, &Silent)
+}
+
+/// [`solve`] reporting progress: every plan is made first (so a plan that
+/// cannot run fails before anything steps), then the runs step.
+pub fn solve_with(
+    problem: &Problem,
+    ms: &[u32],
+    progress: &dyn Progress,
+) -> Result<Vec<RunOutput>, SolverError> {
+    let plans: Vec<RunPlan> = ms
         .par_iter()
-        .map(|&m| plan(problem, m).and_then(|p| run(problem, &p)))
+        .map(|&m| plan(problem, m))
+        .collect::<Result<_, _>>()?;
+    let results: Vec<Result<RunOutput, SolverError>> = plans
+        .par_iter()
+        .map(|p| run_with(problem, p, progress))
         .collect();
     let mut runs: Vec<RunOutput> = results.into_iter().collect::<Result<_, _>>()?;
     label_runs(&mut runs.iter_mut().collect::<Vec<_>>());
@@ -117,9 +131,50 @@ pub fn label_runs(runs: &mut [&mut RunOutput]) {
 
 /// Runs `plan` on `problem`.
 pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> {
+    run_with(problem, plan, &Silent)
+}
+
+/// Receives the progress of runs as they step; called from the worker
+/// threads, so it must be `Sync` and cheap (it is called every 64 steps).
+pub trait Progress: Sync {
+    /// A run of order `m` starts; it will take at most `planned` cell
+    /// updates.
+    fn started(&self, m: u32, planned: u64);
+    /// A run of order `m` has just done `cell_updates` more cell updates.
+    fn advance(&self, m: u32, cell_updates: u64);
+    /// The run of order `m` has finished after `done` cell updates of the
+    /// `planned` most its plan allowed (a run stops early when its modes
+    /// have settled, so `done ≤ planned` except for the short closing stretch
+    /// that gives late modes a field).
+    fn finished(&self, m: u32, done: u64, planned: u64);
+}
+
+/// A [`Progress`] that ignores everything.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Silent;
+
+impl Progress for Silent {
+    fn started(&self, _m: u32, _planned: u64) {}
+    fn advance(&self, _m: u32, _cell_updates: u64) {}
+    fn finished(&self, _m: u32, _done: u64, _planned: u64) {}
+}
+
+/// The most cell updates a plan can take: its maximum length in steps times
+/// the cells of the grid (what a progress display counts towards).
+pub fn planned_cell_updates(problem: &Problem, plan: &RunPlan) -> u64 {
+    plan.max_steps as u64 * problem.materials.grid.cells() as u64
+}
+
+/// [`run`] reporting its progress to `progress`.
+pub fn run_with(
+    problem: &Problem,
+    plan: &RunPlan,
+    progress: &dyn Progress,
+) -> Result<RunOutput, SolverError> {
     let _ftz = FlushSubnormals::new();
     let start = Instant::now();
     let m = plan.m;
+    progress.started(m, planned_cell_updates(problem, plan));
     let map = &problem.materials;
     let g = &map.grid;
     let mut coeffs = Coefficients::new(map, &problem.walls, m, plan.dt);
@@ -163,18 +218,21 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         }
     };
     let mut peak_energy: f64 = 0.0;
+    // Cell updates between two progress reports.
+    let chunk = 64 * g.cells() as u64;
     for &s in &table {
         step_once(&mut f);
         inject(&mut f, &coeffs, &plan.sources, s);
         step += 1;
         if step % 64 == 0 {
             peak_energy = peak_energy.max(guard(&f, step, 0.0)?);
+            progress.advance(m, chunk);
         }
     }
     let reference = guard(&f, step, 0.0)?;
     peak_energy = peak_energy.max(reference);
     let mut accs: Vec<Accumulator> = Vec::new();
-    let acc_cap = crate::modefield::MAX_BYTES / Accumulator::bytes(&f).max(1);
+    let acc_cap = plan.max_mode_fields;
     // The frequency a mode rings at on the grid (before the leapfrog
     // correction of `modes`), where its running transform must be taken.
     let sampled = |m: &Mode| {
@@ -206,6 +264,7 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
                 if step % 64 == 0 {
                     let e = guard(&f, step, reference)?;
                     decayed |= e < 1e-28 * peak_energy;
+                    progress.advance(m, chunk);
                 }
             }
             for (sig, p) in signals.iter_mut().zip(&plan.probes) {
@@ -309,6 +368,11 @@ pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> 
         .collect();
     fill_axis(&mut f, m);
     let samples = signals[0].len();
+    progress.finished(
+        m,
+        (g.cells() as u64) * step as u64,
+        planned_cell_updates(problem, plan),
+    );
     Ok(RunOutput {
         report: RunReport {
             m,
