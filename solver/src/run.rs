@@ -395,7 +395,7 @@ pub fn run_with(
         fields: f,
         mode_fields,
         grid: g.clone(),
-        walls: problem.walls.clone(),
+        walls: problem.walls,
     })
 }
 
