@@ -58,6 +58,13 @@ enum Command {
         #[arg(long)]
         refine: bool,
     },
+    /// Measure this machine's stepping rate on a standard case (to size
+    /// sweeps: a run costs its `cell_updates` divided by this rate).
+    Bench {
+        /// Seconds to time each case.
+        #[arg(long, default_value_t = 1.0)]
+        seconds: f64,
+    },
     /// Print the plan of each run without stepping any field: grid, time
     /// step, absorber, sources and probes, memory, estimated run time, and
     /// every warning.
@@ -111,6 +118,54 @@ fn parse_size(text: &str) -> Result<usize, String> {
         ));
     }
     Ok(bytes as usize)
+}
+
+/// The standard cases of `lathe bench`: our isolated ε_r 44.7 puck
+/// (examples/isolated_puck.toml, upper half over a PEC plane, m = 1) at the
+/// default grid, and the same puck on a grid refined to about a million
+/// cells (where a single run splits its rows over the threads).
+const BENCH_SCENARIO: &str = include_str!("../examples/isolated_puck.toml");
+
+fn bench(seconds: f64) -> Result<(), Failure> {
+    let base = Scenario::parse(BENCH_SCENARIO, "examples/isolated_puck.toml")
+        .map_err(|e| Failure::Run(format!("the built-in benchmark case does not parse: {e}")))?;
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    emit(&format!(
+        "lathe bench: full leapfrog step (H, E, absorber) of the isolated ε_r 44.7 puck, m = 1, f64; {cores} core(s) seen\n"
+    ));
+    emit(&format!(
+        "{:>14} {:>9} {:>8} {:>16} {:>12}\n",
+        "grid", "cells", "threads", "cell updates/s", "ns per cell"
+    ));
+    for cpw in [30.0, 180.0] {
+        let mut s = base.clone();
+        s.cells_per_wavelength = cpw;
+        let (half, _) = lathe::study::halves(&s)
+            .ok_or_else(|| Failure::Run("the benchmark case is not symmetric".into()))?;
+        let problem = half
+            .problem()
+            .map_err(|e| Failure::Run(format!("benchmark case: {e}")))?;
+        let p = lathe::solver::plan(&problem, 1).map_err(|e| Failure::Run(e.to_string()))?;
+        let g = &problem.materials.grid;
+        let mut threads = vec![1];
+        if cores > 1 {
+            threads.push(cores);
+        }
+        for t in threads {
+            let rate = pool(Some(t))?
+                .install(|| lathe::solver::bench::step_rate(&problem, 1, p.dt, seconds));
+            emit(&format!(
+                "{:>14} {:>9} {:>8} {:>16.3e} {:>12.2}\n",
+                format!("{} × {}", g.nr, g.nz),
+                g.cells(),
+                t,
+                rate,
+                1e9 / rate
+            ));
+        }
+    }
+    emit("Several orders or halves run side by side, one per thread; a single large run splits its rows over the threads.\n");
+    Ok(())
 }
 
 enum Failure {
@@ -282,6 +337,14 @@ fn write_file(flag: &str, path: &std::path::Path, text: &str) -> Result<(), Fail
 
 fn real_main(cli: Cli) -> Result<(), Failure> {
     match cli.command {
+        Command::Bench { seconds } => {
+            if !(seconds.is_finite() && seconds > 0.0 && seconds <= 600.0) {
+                return Err(Failure::Input(format!(
+                    "--seconds {seconds}: give a time between 0 and 600 s"
+                )));
+            }
+            bench(seconds)
+        }
         Command::Check {
             file,
             m,
