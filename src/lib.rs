@@ -43,6 +43,7 @@
 #![deny(missing_docs)]
 
 pub mod formulas;
+pub mod loss;
 pub mod output;
 pub mod progress;
 pub mod reference;

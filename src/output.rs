@@ -18,6 +18,18 @@ pub fn q_text(m: &Mode) -> String {
     }
 }
 
+/// A Q figure for the loss columns: finite numbers as in [`q_text`],
+/// "none" for an infinite one (no lossy body holds the mode's energy).
+fn q_number(q: f64) -> String {
+    if !q.is_finite() {
+        "none".into()
+    } else if q >= 1e5 {
+        format!("{q:.3e}")
+    } else {
+        format!("{q:.1}")
+    }
+}
+
 fn plane_name(p: Option<ZWall>) -> &'static str {
     match p {
         Some(ZWall::Pec) => "pec",
@@ -31,10 +43,14 @@ fn plane_name(p: Option<ZWall>) -> &'static str {
 /// tangential zero on the mid-plane; `pmc`: H tangential zero).
 pub fn table(study: &Study) -> String {
     let halves = study.runs.iter().any(|r| r.plane.is_some());
+    let losses = study.losses();
     let mut s = String::new();
     s.push_str("  m  mode            f (GHz)            Q      error   amplitude");
+    if losses.is_some() {
+        s.push_str("  Q with loss   Q_d");
+    }
     s.push_str(if halves { "  plane\n" } else { "\n" });
-    for (m, plane) in study.modes() {
+    for (k, (m, plane)) in study.modes().into_iter().enumerate() {
         s.push_str(&format!(
             "{:>3}  {:<12}  {:>11.6}  {:>11}  {:>9.1e}  {:>10.3}",
             m.m,
@@ -44,6 +60,16 @@ pub fn table(study: &Study) -> String {
             m.error,
             m.amplitude
         ));
+        if let Some(l) = &losses {
+            match &l[k] {
+                Some(l) => s.push_str(&format!(
+                    "  {:>11}  {:>5}",
+                    q_number(l.q_with_loss),
+                    q_number(l.q_dielectric)
+                )),
+                None => s.push_str("            —      —"),
+            }
+        }
         if halves {
             s.push_str(&format!("  {}", plane_name(plane)));
         }
@@ -86,11 +112,13 @@ fn csv_field(text: &str) -> String {
 
 /// The JSON document: `{"modes": [...], "runs": [...]}`.
 pub fn json(study: &Study) -> Value {
+    let losses = study.losses();
     let modes: Vec<Value> = study
         .modes()
         .iter()
-        .map(|(m, plane)| {
-            json!({
+        .enumerate()
+        .map(|(k, (m, plane))| {
+            let mut v = json!({
                 "m": m.m,
                 "label": m.label,
                 "freq_hz": m.freq_hz,
@@ -101,7 +129,15 @@ pub fn json(study: &Study) -> Value {
                 "amplitude": m.amplitude,
                 "probes": m.probes,
                 "plane": plane.map(|_| plane_name(*plane)),
-            })
+            });
+            if let Some(Some(l)) = losses.as_ref().map(|l| &l[k]) {
+                v["electric_filling"] = json!(l.filling);
+                v["q_with_loss"] = json!(l.q_with_loss);
+                if l.q_dielectric.is_finite() {
+                    v["q_dielectric"] = json!(l.q_dielectric);
+                }
+            }
+            v
         })
         .collect();
     let runs: Vec<Value> = study

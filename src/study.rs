@@ -29,9 +29,41 @@ pub struct StudyRun {
 pub struct Study {
     /// Runs, in order: halves (PEC, PMC) then orders m.
     pub runs: Vec<StudyRun>,
+    /// The scenario's bodies, in file order (for loss and pictures).
+    pub bodies: Vec<lathe_mesh::Body>,
 }
 
 impl Study {
+    /// Every mode with its run and its index in that run, in the order of
+    /// [`Study::modes`].
+    pub fn mode_refs(&self) -> Vec<(&StudyRun, usize)> {
+        let mut v: Vec<(&StudyRun, usize)> = self
+            .runs
+            .iter()
+            .flat_map(|r| (0..r.output.modes.len()).map(move |k| (r, k)))
+            .collect();
+        v.sort_by(|a, b| {
+            let (x, y) = (&a.0.output.modes[a.1], &b.0.output.modes[b.1]);
+            x.freq_hz.total_cmp(&y.freq_hz).then(x.m.cmp(&y.m))
+        });
+        v
+    }
+
+    /// The dielectric-loss figures of every mode, in the order of
+    /// [`Study::modes`] (`None` for a mode without a field), or `None` when
+    /// no body has a loss tangent.
+    pub fn losses(&self) -> Option<Vec<Option<crate::loss::LossQ>>> {
+        if !crate::loss::any_lossy(&self.bodies) {
+            return None;
+        }
+        Some(
+            self.mode_refs()
+                .into_iter()
+                .map(|(r, k)| crate::loss::loss_q(&self.bodies, &r.output, k))
+                .collect(),
+        )
+    }
+
     /// Every mode with the plane of its run, sorted by frequency (then m).
     pub fn modes(&self) -> Vec<(Mode, Option<ZWall>)> {
         let mut v: Vec<(Mode, Option<ZWall>)> = self
@@ -216,5 +248,8 @@ pub fn run_study_with(
             runs.push(StudyRun { plane, output });
         }
     }
-    Ok(Study { runs })
+    Ok(Study {
+        runs,
+        bodies: s.bodies.clone(),
+    })
 }
