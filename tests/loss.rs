@@ -62,12 +62,11 @@ fn half_filled_loss_has_filling_one_half_for_modes_even_about_the_interface() {
     // Exact: in a can uniformly filled (both layers ε_r 3.7), every mode's
     // |E|² is symmetric about mid-height (the fields are sin or cos of
     // pπz/d, physics.md §4 closed-cylinder modes), so the lower layer holds
-    // exactly half of the electric energy: p = 1/2, Q_d = 2/tan δ. The node
-    // sums resolve it to about one cell's share of the energy at the
-    // interface, 1/nz of the total (tolerance).
+    // exactly half of the electric energy: p = 1/2, Q_d = 2/tan δ. Nodes on
+    // the interface are shared between the layers, so the node sums see the
+    // symmetry exactly.
     let tan = 8.0e-4;
     let s = two_layers(tan, 0.0);
-    let nz = s.grid().unwrap().nz as f64;
     let study = run_study(&s).unwrap();
     let losses = study.losses().expect("a lossy body");
     let mut checked = 0;
@@ -80,16 +79,12 @@ fn half_filled_loss_has_filling_one_half_for_modes_even_about_the_interface() {
             m.amplitude,
             l.filling[0]
         );
-        // A mode's field is a running transform over the ring-down; a mode
-        // excited far more weakly than its neighbours picks up their
-        // leakage (modefield.rs), so only the well-excited modes are held
-        // to the exact value.
-        if m.amplitude < 0.2 {
-            continue;
-        }
+        // The mode fields are separated from one another (modefield::demix),
+        // so even the weakly excited TM010 (amplitude ≈ 0.06) is clean; what
+        // remains is leakage of modes outside the band, a few 1e-4 here.
         checked += 1;
         assert!(
-            (l.filling[0] - 0.5).abs() < 1.0 / nz,
+            (l.filling[0] - 0.5).abs() < 2e-3,
             "{} at {:.4} GHz: p = {}",
             m.label,
             m.freq_hz / 1e9,
@@ -97,7 +92,7 @@ fn half_filled_loss_has_filling_one_half_for_modes_even_about_the_interface() {
         );
         assert!((l.q_dielectric * l.filling[0] * tan - 1.0).abs() < 1e-9);
     }
-    assert!(checked >= 3, "only {checked} well-excited modes");
+    assert!(checked >= 4, "only {checked} modes");
 }
 
 #[test]

@@ -353,17 +353,46 @@ pub fn run_with(
             }
         }
     }
-    let mode_fields: Vec<Option<ModeField>> = modes
+    // Each mode's transform (the longest that matches it, each used once),
+    // then the modes separated from one another (modefield::demix).
+    let mut used = vec![false; accs.len()];
+    let pairing: Vec<Option<usize>> = modes
         .iter()
         .map(|md| {
-            accs.iter()
-                .filter(|a| matches(a, md))
-                .max_by_key(|a| a.samples())
-                .map(|a| {
-                    let mut mf = a.finish();
-                    mf.freq_hz = md.freq_hz;
-                    mf
-                })
+            let best = (0..accs.len())
+                .filter(|&a| !used[a] && matches(&accs[a], md))
+                .max_by_key(|&a| accs[a].samples());
+            if let Some(a) = best {
+                used[a] = true;
+            }
+            best
+        })
+        .collect();
+    let poles: Vec<crate::modefield::Pole> = modes
+        .iter()
+        .zip(&pairing)
+        .filter_map(|(md, a)| {
+            a.map(|a| crate::modefield::Pole {
+                acc: &accs[a],
+                s: Complex64::new(-md.decay, 2.0 * std::f64::consts::PI * sampled(md)),
+            })
+        })
+        .collect();
+    let separated = crate::modefield::demix(&poles, plan.dt);
+    let mut separated = separated.map(|v| v.into_iter());
+    let mode_fields: Vec<Option<ModeField>> = modes
+        .iter()
+        .zip(&pairing)
+        .map(|(md, a)| {
+            a.map(|a| {
+                let mut mf = match separated.as_mut() {
+                    Some(it) => it.next().expect("one field per pole"),
+                    None => accs[a].finish(),
+                };
+                mf.freq_hz = md.freq_hz;
+                mf.fill_axis(g.nr, g.nz, m);
+                mf
+            })
         })
         .collect();
     fill_axis(&mut f, m);
