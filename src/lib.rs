@@ -42,6 +42,7 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod fieldfile;
 pub mod formulas;
 pub mod loss;
 pub mod output;
