@@ -39,6 +39,9 @@ enum Command {
         /// Write the mode table as CSV to PATH ("-" for standard output).
         #[arg(long, value_name = "PATH")]
         csv: Option<PathBuf>,
+        /// Write the complex field of every mode to an HDF5 file.
+        #[arg(long, value_name = "PATH.h5")]
+        fields: Option<PathBuf>,
         /// Memory cap for the runs that step at once, e.g. 6G, 800M
         /// (binary units; a bare number is MiB). Default 4G.
         #[arg(long, value_name = "SIZE", value_parser = parse_size)]
@@ -265,6 +268,7 @@ fn pool(threads: Option<usize>) -> Result<rayon::ThreadPool, Failure> {
 struct Outputs {
     json: Option<PathBuf>,
     csv: Option<PathBuf>,
+    fields: Option<PathBuf>,
 }
 
 impl Outputs {
@@ -272,8 +276,9 @@ impl Outputs {
         out: Option<PathBuf>,
         json: Option<PathBuf>,
         csv: Option<PathBuf>,
+        fields: Option<PathBuf>,
     ) -> Result<Outputs, Failure> {
-        let mut o = Outputs { json, csv };
+        let mut o = Outputs { json, csv, fields };
         if let Some(dir) = out {
             std::fs::create_dir_all(&dir).map_err(|e| {
                 Failure::Input(format!(
@@ -289,8 +294,18 @@ impl Outputs {
             }
             o.json.get_or_insert(dir.join("modes.json"));
             o.csv.get_or_insert(dir.join("modes.csv"));
+            o.fields.get_or_insert(dir.join("fields.h5"));
         }
-        for (flag, path) in [("--json", &o.json), ("--csv", &o.csv)] {
+        if o.fields.as_deref().is_some_and(|p| p.as_os_str() == "-") {
+            return Err(Failure::Input(
+                "--fields -: the field file is binary HDF5; give a file name".into(),
+            ));
+        }
+        for (flag, path) in [
+            ("--json", &o.json),
+            ("--csv", &o.csv),
+            ("--fields", &o.fields),
+        ] {
             if let Some(p) = path {
                 writable(flag, p)?;
             }
@@ -369,6 +384,7 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             out,
             json,
             csv,
+            fields,
             max_memory,
             threads,
             quiet,
@@ -379,7 +395,7 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             let name = file.display().to_string();
             let problem = problem_of(&s, &name)?;
             let pool = pool(threads)?;
-            let outputs = Outputs::new(out, json, csv)?;
+            let outputs = Outputs::new(out, json, csv, fields)?;
             let options = StudyOptions {
                 max_memory: max_memory.unwrap_or(DEFAULT_MAX_MEMORY),
             };
@@ -449,6 +465,16 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             }
             if let Some(path) = &outputs.csv {
                 write_file("--csv", path, &output::csv(&study))?;
+            }
+            if let Some(path) = &outputs.fields {
+                let n = lathe::fieldfile::write_study(path, &study)
+                    .map_err(|e| Failure::Input(format!("--fields: {e}")))?;
+                if !quiet {
+                    eprintln!(
+                        "lathe: wrote the fields of {n} mode(s) to {}",
+                        path.display()
+                    );
+                }
             }
             if runs.iter().all(|r| r.modes.is_empty()) {
                 return Err(Failure::Run(format!(

@@ -41,6 +41,7 @@ fn two_run_study() -> Study {
     let run = &cavity_study().runs[0];
     assert_eq!(run.plane, None);
     Study {
+        bodies: Vec::new(),
         runs: vec![
             run.clone(),
             StudyRun {

@@ -337,7 +337,7 @@ mod tests {
         let value =
             |t: f64, k: usize| -> f64 { (0..2).map(|md| (a(md, k) * (s[md] * t).exp()).re).sum() };
         let t_open = [0.0, 40.0 * spacing];
-        let mut accs = vec![Accumulator::new(7.31e9, &f), Accumulator::new(7.9e9, &f)];
+        let mut accs = [Accumulator::new(7.31e9, &f), Accumulator::new(7.9e9, &f)];
         for n in 0..3000 {
             let t = n as f64 * spacing;
             for (ci, &c) in Component::ALL.iter().enumerate() {
