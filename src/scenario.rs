@@ -46,20 +46,24 @@
 //!
 //! # What is refused
 //!
-//! Besides unknown keys, wrong types and missing keys, a scenario is refused
-//! when a value is out of its range: lengths must be finite and within
-//! ±[`MAX_LENGTH_MM`]; sizes, the cell and f_min positive; ε_r in
-//! 1 … [`MAX_EPS_R`]; loss tangents in [0, 1) and only on dielectrics; the
-//! band non-empty, below [`MAX_FREQUENCY_GHZ`] and no wider than
-//! [`MAX_BAND_RATIO`]; orders m whole numbers 0 … 64; a polygon 3 to
+//! Besides unknown keys, wrong types and missing keys, a scenario is
+//! refused when a value is out of its range: lengths finite and within
+//! ±[`MAX_LENGTH_MM`]; sizes and the cell at least [`MIN_SIZE_MM`]; f_min
+//! positive; ε_r in 1 … [`MAX_EPS_R`]; loss tangents in [0, 1) and only on
+//! dielectrics; the band non-empty, below [`MAX_FREQUENCY_GHZ`], no wider
+//! than [`MAX_BAND_RATIO`] and its ring-down record within
+//! [`MAX_RECORD_PERIODS`]; orders m whole numbers 0 … 64; a polygon 3 to
 //! [`MAX_POLYGON_POINTS`] points in r ≥ 0 that enclose an area without
 //! crossing themselves; no body wholly outside the region; a given cell no
 //! larger than the region and resolving the shortest wavelength with at
-//! least [`MIN_CELLS_PER_WAVELENGTH`] cells; in a region the user drew, no
-//! absorber thicker than the region. [`Scenario::grid`] and
-//! [`Scenario::solver_grid`] refuse grids above the cell and memory limits
-//! before anything is allocated; [`Scenario::problem`] refuses a body
-//! thinner than a cell and a region that is metal throughout.
+//! least [`MIN_CELLS_PER_WAVELENGTH`] cells (cells_per_wavelength at most
+//! [`MAX_CELLS_PER_WAVELENGTH`]); in a region the user drew, no absorber
+//! thicker than the region. [`Scenario::grid`] and [`Scenario::solver_grid`]
+//! refuse grids above the cell and memory limits before anything is
+//! allocated; [`Scenario::problem`] refuses a body thinner than a cell and a
+//! region that is metal throughout. Where the fix is obvious the error
+//! carries a hint: swapped bounds, Hz or MHz for GHz, metres for mm, a
+//! misspelt key, shape or wall.
 use lathe_mesh::{fill, Body, FillOptions, Grid, Material, MeshError, Shape};
 use lathe_solver::consts::C0;
 use lathe_solver::{Absorber, OuterWall, Problem, RunOptions, Walls, ZWall};
@@ -83,11 +87,21 @@ pub const DEFAULT_CELLS_PER_WAVELENGTH: f64 = 30.0;
 /// wavelength); common practice, no source.
 pub const MIN_CELLS_PER_WAVELENGTH: f64 = 4.0;
 
+/// Most cells per wavelength a scenario may ask for: at 1000 the spatial
+/// error (kΔ)²/24 is 1.6e-6, far below every other error of a run, and the
+/// grid of even a one-wavelength region has a million cells.
+pub const MAX_CELLS_PER_WAVELENGTH: f64 = 1000.0;
+
 /// Largest magnitude of any length in a scenario, mm (1 km). A guard
 /// against typing errors: anything near it would be refused by the grid
 /// limits anyway, and keeping lengths bounded keeps every product of two
 /// lengths finite.
 pub const MAX_LENGTH_MM: f64 = 1e6;
+
+/// Smallest size (a radius, a height, the cell) a scenario may give, mm
+/// (1 pm): far below anything a grid resolves, and far enough above the
+/// smallest double that every size stays a normal number in metres.
+pub const MIN_SIZE_MM: f64 = 1e-9;
 
 /// Highest frequency a scenario may name, GHz (10 PHz, a 30 nm
 /// wavelength). Values above it are almost surely in Hz.
@@ -98,6 +112,13 @@ pub const MAX_FREQUENCY_GHZ: f64 = 1e7;
 /// the recorded signal grow with the ratio; above 1000 a run of the default
 /// length records over 10⁷ samples per probe.
 pub const MAX_BAND_RATIO: f64 = 1000.0;
+
+/// Largest ring-down length times band ratio, `max_periods · f_max /
+/// f_min`. A run records its probes for `max_periods` periods of f_min at
+/// about 4 samples per period of f_max (`lathe_solver::plan`), 8 bytes per
+/// sample for each of up to 10 probe points: at 1e7 that is some 3 GiB,
+/// near the memory a run may use.
+pub const MAX_RECORD_PERIODS: f64 = 1e7;
 
 /// Largest relative permittivity of a body.
 pub const MAX_EPS_R: f64 = 1e5;
@@ -192,10 +213,7 @@ impl Reader<'_> {
     fn check_keys(&self, t: &Table, prefix: &str, known: &[&str]) -> Result<(), ScenarioError> {
         for k in t.keys() {
             if !known.contains(&k.as_str()) {
-                let hint = match closest(k, known) {
-                    Some(c) => Some(format!("did you mean `{c}`?")),
-                    None => None,
-                };
+                let hint = closest(k, known).map(|c| format!("did you mean `{c}`?"));
                 let key = if prefix.is_empty() {
                     clip(k)
                 } else {
@@ -290,8 +308,17 @@ impl Reader<'_> {
     }
 
     fn positive(&self, v: f64, full: &str, unit: &str) -> Result<f64, ScenarioError> {
-        if v > 0.0 {
+        if v > 0.0 && (unit != "mm" || v >= MIN_SIZE_MM) {
             Ok(v)
+        } else if v > 0.0 {
+            Err(self.err(
+                full,
+                format!(
+                    "{} mm is too small; sizes must be at least {MIN_SIZE_MM:e} mm",
+                    tok(v)
+                ),
+                Some("lengths are in millimetres".into()),
+            ))
         } else {
             Err(self.err(
                 full,
@@ -352,6 +379,17 @@ fn approx(x: f64) -> String {
     tok(format!("{x:.3e}").parse().unwrap_or(x))
 }
 
+/// A cell count for a message.
+fn count(n: f64) -> String {
+    if !n.is_finite() {
+        "over 1e308".into()
+    } else if n < 1e6 {
+        format!("{n}")
+    } else {
+        format!("{n:.4e}")
+    }
+}
+
 /// A suggested upper limit: `x` rounded down to three significant digits.
 fn below(x: f64) -> String {
     if !x.is_finite() || x <= 0.0 {
@@ -360,8 +398,12 @@ fn below(x: f64) -> String {
     // Round-off first (0.1 − 0.05 is 0.04999…), then down.
     let x: f64 = format!("{x:.9e}").parse().unwrap_or(x);
     let scale = 10f64.powi(x.log10().floor() as i32 - 2);
-    let x = x * (1.0 + 1e-12);
-    sig((x / scale).floor() * scale)
+    let down = (x * (1.0 + 1e-12) / scale).floor() * scale;
+    if down.is_finite() && down > 0.0 {
+        sig(down)
+    } else {
+        sig(x)
+    }
 }
 
 /// At most 60 characters of something the user wrote.
@@ -601,16 +643,14 @@ impl Scenario {
             "cells_per_wavelength",
             "region.cells_per_wavelength",
         )? {
-            Some(c) if c >= MIN_CELLS_PER_WAVELENGTH => c,
+            Some(c) if (MIN_CELLS_PER_WAVELENGTH..=MAX_CELLS_PER_WAVELENGTH).contains(&c) => c,
             Some(c) => {
+                let (lo, hi) = (MIN_CELLS_PER_WAVELENGTH, MAX_CELLS_PER_WAVELENGTH);
                 return Err(rd.err(
                     "region.cells_per_wavelength",
-                    format!(
-                        "must be at least {MIN_CELLS_PER_WAVELENGTH}, got {}",
-                        tok(c)
-                    ),
+                    format!("must lie in {lo} … {hi}, got {}", tok(c)),
                     Some("20 to 40 is usual; accuracy grows as its square".into()),
-                ))
+                ));
             }
             None => DEFAULT_CELLS_PER_WAVELENGTH,
         };
@@ -823,14 +863,19 @@ impl Scenario {
                 None,
             ));
         }
-        if f_max / f_min > MAX_BAND_RATIO {
+        if f_max > MAX_BAND_RATIO * f_min {
+            let ratio = f_max / f_min;
             return Err(rd.err(
                 "search.f_min",
                 format!(
-                    "the band {} – {} GHz spans a ratio of {}, more than the {MAX_BAND_RATIO} allowed (each run rings down for max_periods periods of f_min at the time step f_max needs)",
+                    "the band {} – {} GHz spans a ratio f_max / f_min {}, more than the {MAX_BAND_RATIO} allowed (each run rings down for max_periods periods of f_min at the time step f_max needs)",
                     tok(f_min),
                     tok(f_max),
-                    (f_max / f_min).round()
+                    if ratio.is_finite() {
+                        format!("of {}", ratio.round())
+                    } else {
+                        "beyond 1e308".to_string()
+                    }
                 ),
                 Some(format!(
                     "raise f_min to {} GHz or more, or search the band in parts",
@@ -849,6 +894,27 @@ impl Scenario {
             }
             None => None,
         };
+        let periods = max_periods.unwrap_or(RunOptions::default().max_periods);
+        if periods * (f_max / f_min) > MAX_RECORD_PERIODS {
+            return Err(rd.err(
+                if max_periods.is_some() {
+                    "search.max_periods"
+                } else {
+                    "search.f_min"
+                },
+                format!(
+                    "max_periods × f_max / f_min = {} × {} / {} = {} is above the {MAX_RECORD_PERIODS:e} allowed: the recorded ring-down would not fit in memory",
+                    tok(periods),
+                    tok(f_max),
+                    tok(f_min),
+                    approx(periods * f_max / f_min)
+                ),
+                Some(format!(
+                    "lower max_periods to {} or less, or narrow the band",
+                    below(MAX_RECORD_PERIODS * f_min / f_max)
+                )),
+            ));
+        }
         let (radius, z_min, z_max) = match extent {
             Some(e) => e,
             None => {
@@ -1153,10 +1219,10 @@ impl Scenario {
             file: String::new(),
             key: key.into(),
             message: format!(
-                "the grid would be {:.4e} × {:.4e} = {:.4e} cells of {} mm, {why}",
-                nr,
-                nz,
-                nr * nz,
+                "the grid would be {} × {} = {} cells of {} mm, {why}",
+                count(nr),
+                count(nz),
+                count(nr * nz),
                 approx(self.cell_size() / MM)
             ),
             hint: Some(hint),
@@ -1768,6 +1834,22 @@ fn read_points(rd: &Reader, t: &Table, key: &str) -> Result<Vec<(f64, f64)>, Sce
             None,
         ));
     }
+    let extent = |f: fn(&(f64, f64)) -> f64| {
+        let (lo, hi) = pts
+            .iter()
+            .map(f)
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), x| {
+                (lo.min(x), hi.max(x))
+            });
+        hi - lo
+    };
+    if extent(|p| p.0) < MIN_SIZE_MM || extent(|p| p.1) < MIN_SIZE_MM {
+        return Err(rd.err(
+            key,
+            format!("the profile is less than {MIN_SIZE_MM:e} mm across in r or z"),
+            Some("lengths are in millimetres".into()),
+        ));
+    }
     if let Some((a, b)) = crossing_edges(&pts) {
         return Err(rd.err(
             key,
@@ -1955,6 +2037,52 @@ f_max = 25.0
         let e = s.problem().unwrap_err();
         assert_eq!(e.key, "body[0].height");
         assert!(e.message.contains("0.1 mm") && e.hint.unwrap().contains("region.cell"));
+    }
+
+    #[test]
+    fn crossing_edges_finds_figure_eights_touches_and_fold_backs() {
+        let square = [(0.0, 0.0), (1.0, 0.0), (1.0, 1.0), (0.0, 1.0)];
+        assert_eq!(crossing_edges(&square), None);
+        let bow_tie = [(0.0, 0.0), (1.0, 1.0), (1.0, 0.0), (0.0, 1.0)];
+        assert_eq!(crossing_edges(&bow_tie), Some((0, 2)));
+        // Touching itself at one point: the vertex (1, 1) lies on edge 3–4.
+        let pinched = [
+            (0.0, 0.0),
+            (2.0, 0.0),
+            (1.0, 1.0),
+            (2.0, 2.0),
+            (0.0, 2.0),
+            (1.0, 1.0),
+        ];
+        assert!(crossing_edges(&pinched).is_some());
+        // Doubling back along an edge.
+        let fold = [(0.0, 0.0), (2.0, 0.0), (1.0, 0.0), (1.0, 1.0)];
+        assert!(crossing_edges(&fold).is_some());
+        // Collinear points going the same way are fine.
+        let straight = [(0.0, 0.0), (1.0, 0.0), (2.0, 0.0), (2.0, 1.0)];
+        assert_eq!(crossing_edges(&straight), None);
+    }
+
+    #[test]
+    fn suggestions_round_down_and_quote_compactly() {
+        assert_eq!(below(0.3559842865), "0.355");
+        assert_eq!(below(0.1 - 0.05), "0.05");
+        assert_eq!(below(505_000.0), "505000");
+        assert_eq!(tok(1e300), "1e300");
+        assert_eq!(tok(f64::NEG_INFINITY), "-inf");
+        assert_eq!(sig(9.7e-3 / 1e-3), "9.7");
+        assert_eq!(closest("cnoe", &SHAPES), Some("cone"));
+        assert_eq!(closest("zzzzzzzz", &SHAPES), None);
+    }
+
+    #[test]
+    fn toml_errors_name_the_key_of_their_line() {
+        let e = err(&GOOD.replace("height = 4.0", "height = 4.0\nheight = 5.0"));
+        assert_eq!(e.key, "body[0].height");
+        assert!(e.message.contains("line 15") && e.message.contains("height = 5.0"));
+        let e = err(&GOOD.replace("f_min = 5.0", "f_min = 5 GHz"));
+        assert_eq!(e.key, "search.f_min");
+        assert!(e.hint.unwrap().contains("write the number alone (5)"));
     }
 
     #[test]

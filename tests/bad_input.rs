@@ -45,7 +45,8 @@
 //! - Orders m: negative [m_negative], fractional [m_fraction], text with the
 //!   list hint [m_string], empty [m_empty], huge [m_huge], boolean [m_bool].
 //! - Run length: max_periods 0 [max_periods_zero] or huge
-//!   [max_periods_huge].
+//!   [max_periods_huge], a ring-down record beyond memory
+//!   [record_beyond_memory].
 //! - Absorbers: pml_cells 0 [pml_cells_zero] or huge [pml_cells_huge], a
 //!   PML thicker than the region [pml_thicker_than_region], pml_reflection
 //!   ≥ 1 [pml_reflection_one], pml_order out of range
@@ -54,7 +55,8 @@
 //!   larger than the region [cell_larger_than_region], a cell too coarse for
 //!   the wavelength [cell_too_coarse], an absurd grid refused before any
 //!   allocation [absurd_grid, absurd_grid_modes], a grid beyond the memory
-//!   a run may use [grid_beyond_memory].
+//!   a run may use [grid_beyond_memory], cells_per_wavelength out of 4 …
+//!   1000 [cells_per_wavelength_huge, cells_per_wavelength_small].
 //! - Bodies: thinner than a cell [body_thinner_than_cell,
 //!   body_thinner_than_cell_modes], a radius in metres with the mm hint
 //!   [radius_in_metres], wholly outside the region in z
@@ -306,6 +308,7 @@ fn catalogue() -> Vec<Case> {
         case("m_bool", edit("m = [0, 1]", "m = [true]"), "search.m", "the boolean true", "whole numbers from 0 to 64", None),
         // Run length
         case("max_periods_zero", edit("max_periods = 3100", "max_periods = 0"), "search.max_periods", "got 0", "50 … 1e6", Some("default is 4000")),
+        case("record_beyond_memory", edits(&[("max_periods = 3100", "max_periods = 1e6"), ("f_min = 4.7", "f_min = 0.47")]), "search.max_periods", "1000000 × 9.3 / 0.47", "above the 1e7 allowed", Some("lower max_periods to 505000 or less")),
         case("max_periods_huge", edit("max_periods = 3100", "max_periods = 1e12"), "search.max_periods", "got 1000000000000", "50 … 1e6", Some("default is 4000")),
         // Absorbers
         case("pml_cells_zero", edit("pml_cells = 12", "pml_cells = 0"), "boundary.pml_cells", "got 0", "whole number from 4 to 200", Some("default is 16")),
@@ -319,7 +322,9 @@ fn catalogue() -> Vec<Case> {
         case("cell_too_coarse", edit("cell = 0.31", "cell = 2.5"), "region.cell", "2.5 mm gives only 2.85 cells per wavelength", "at least 4 are needed", Some("set region.cell to 0.355 mm")),
         case("absurd_grid", edit("cell = 0.31", "cell = 0.00001"), "region.cell", "cells of 0.00001 mm", "more than the 200000000 cells", Some("lengths are in millimetres")),
         modes(case("absurd_grid_modes", edit("cell = 0.31", "cell = 0.00001"), "region.cell", "cells of 0.00001 mm", "more than the 200000000 cells", Some("lengths are in millimetres"))),
-        case("grid_beyond_memory", edit("cell = 0.31", "cells_per_wavelength = 5000"), "region.cells_per_wavelength", "5000", "GiB a run may use", Some("20 to 40 is usual")),
+        case("grid_beyond_memory", edit("cell = 0.31", "cell = 0.0015"), "region.cell", "cells of 0.0015 mm", "GiB a run may use", Some("a cell of 0.355 mm")),
+        case("cells_per_wavelength_huge", edit("cell = 0.31", "cells_per_wavelength = 5000"), "region.cells_per_wavelength", "got 5000", "must lie in 4 … 1000", Some("20 to 40 is usual")),
+        case("cells_per_wavelength_small", edit("cell = 0.31", "cells_per_wavelength = 2.5"), "region.cells_per_wavelength", "got 2.5", "must lie in 4 … 1000", Some("20 to 40 is usual")),
         // Bodies
         case("body_thinner_than_cell", edit("outer_radius = 3.7", "outer_radius = 1.4"), "body[0].outer_radius", "0.1 mm across in r", "thinner than one cell", Some("set region.cell to 0.05 mm")),
         modes(case("body_thinner_than_cell_modes", edit("height = 2.2", "height = 0.12"), "body[2].height", "0.12 mm across in z", "thinner than one cell", Some("set region.cell to 0.06 mm"))),
