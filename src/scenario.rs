@@ -213,7 +213,9 @@ impl Reader<'_> {
     fn check_keys(&self, t: &Table, prefix: &str, known: &[&str]) -> Result<(), ScenarioError> {
         for k in t.keys() {
             if !known.contains(&k.as_str()) {
-                let hint = closest(k, known).map(|c| format!("did you mean `{c}`?"));
+                let hint = home_of(k)
+                    .map(|h| format!("`{k}` belongs in {h}"))
+                    .or_else(|| closest(k, known).map(|c| format!("did you mean `{c}`?")));
                 let key = if prefix.is_empty() {
                     clip(k)
                 } else {
@@ -456,6 +458,52 @@ fn closest<'k>(word: &str, known: &[&'k str]) -> Option<&'k str> {
         .min()
         .filter(|(d, _)| *d <= 3.max(word.chars().count() / 3))
         .map(|(_, c)| c)
+}
+
+/// The table a key belongs in, for a key written in the wrong one.
+fn home_of(key: &str) -> Option<&'static str> {
+    const HOMES: [(&str, &[&str]); 4] = [
+        (
+            "[region]",
+            &["z_min", "z_max", "cell", "cells_per_wavelength"],
+        ),
+        (
+            "[boundary]",
+            &[
+                "outer",
+                "bottom",
+                "top",
+                "pml_cells",
+                "pml_order",
+                "pml_reflection",
+            ],
+        ),
+        (
+            "[search]",
+            &["m", "f_min", "f_max", "max_periods", "symmetry"],
+        ),
+        (
+            "a [[body]]",
+            &[
+                "shape",
+                "eps_r",
+                "loss_tangent",
+                "conductor",
+                "height",
+                "base",
+                "inner_radius",
+                "outer_radius",
+                "center",
+                "radius_bottom",
+                "radius_top",
+                "points",
+            ],
+        ),
+    ];
+    HOMES
+        .iter()
+        .find(|(_, keys)| keys.contains(&key))
+        .map(|(home, _)| *home)
 }
 
 /// A TOML syntax error as a [`ScenarioError`]: the line and column, the
@@ -1051,16 +1099,22 @@ impl Scenario {
                         "region".to_string()
                     },
                     format!(
-                        "the region's {what} ({} mm) is smaller than one cell ({} mm, a {}th of the wavelength in the densest material at f_max)",
+                        "the region's {what} ({} mm) is smaller than one cell ({} mm, λ/{} in the densest material at f_max)",
                         sig(size / MM),
                         approx(h / MM),
                         sig(self.cells_per_wavelength)
                     ),
                     (drawn && size * 1e3 >= 4.0 * h).then(|| {
-                        format!(
-                            "lengths are in millimetres: did you mean {key} = {}?",
-                            sig(if key == "radius" { self.radius } else { self.z_max } / MM * 1e3)
-                        )
+                        let mm = |x: f64| sig(x / MM * 1e3);
+                        if key == "radius" {
+                            format!("lengths are in millimetres: did you mean radius = {}?", mm(self.radius))
+                        } else {
+                            format!(
+                                "lengths are in millimetres: did you mean z_min = {}, z_max = {}?",
+                                mm(self.z_min),
+                                mm(self.z_max)
+                            )
+                        }
                     }),
                 ),
             });

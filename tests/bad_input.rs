@@ -29,7 +29,8 @@
 //!   region's three extents [region_partial], any material
 //!   [no_material].
 //! - Unknown keys, with "did you mean" [unknown_key_typo,
-//!   unknown_top_table], a key of another shape [key_of_other_shape], an
+//!   unknown_top_table], a key of another table [key_in_the_wrong_table] or
+//!   another shape [key_of_other_shape], an
 //!   unknown shape [unknown_shape], wall [unknown_wall, wall_upper_case] or
 //!   conductor [unknown_conductor].
 //! - Sizes: negative [negative_sphere_radius], zero [zero_height, cell_zero],
@@ -51,7 +52,8 @@
 //!   PML thicker than the region [pml_thicker_than_region], pml_reflection
 //!   ≥ 1 [pml_reflection_one], pml_order out of range
 //!   [pml_order_out_of_range].
-//! - Region: z_min ≥ z_max with the swap hint [region_z_swapped], a cell
+//! - Region: z_min ≥ z_max with the swap hint [region_z_swapped], a region
+//!   given in metres [region_in_metres], a cell
 //!   larger than the region [cell_larger_than_region], a cell too coarse for
 //!   the wavelength [cell_too_coarse], an absurd grid refused before any
 //!   allocation [absurd_grid, absurd_grid_modes], a grid beyond the memory
@@ -272,6 +274,7 @@ fn catalogue() -> Vec<Case> {
         case("no_material", edit("eps_r = 3.6\n", ""), "body[3]", "neither eps_r nor conductor", "either", Some("conductor = \"pec\" for metal")),
         // Unknown keys and names
         case("unknown_key_typo", edit("max_periods = 3100", "max_period = 3100"), "search.max_period", "max_period", "unknown key", Some("did you mean `max_periods`?")),
+        case("key_in_the_wrong_table", edit("cell = 0.31\n", "cell = 0.31\nf_min = 4.7\n"), "region.f_min", "f_min", "unknown key; allowed here: radius, z_min, z_max, cell, cells_per_wavelength", Some("`f_min` belongs in [search]")),
         case("unknown_top_table", edit("[search]", "[serach]"), "serach", "serach", "unknown key", Some("did you mean `search`?")),
         case("key_of_other_shape", edit("inner_radius = 1.3", "inner_radius = 1.3\nradius = 3.7"), "body[0].radius", "radius", "not a key of a ring", Some("a ring takes inner_radius, outer_radius, height, base")),
         modes(case("unknown_shape", edit("shape = \"cone\"", "shape = \"cnoe\""), "body[2].shape", "\"cnoe\"", "allowed: \"cylinder\", \"ring\", \"sphere\", \"cone\", \"polygon\"", Some("did you mean \"cone\"?"))),
@@ -318,6 +321,7 @@ fn catalogue() -> Vec<Case> {
         case("pml_order_out_of_range", edit("pml_cells = 12", "pml_cells = 12\npml_order = 9"), "boundary.pml_order", "got 9", "1 … 6", Some("default is 3")),
         // Region and grid
         case("region_z_swapped", edits(&[("z_min = 0.0", "z_min = 13.3"), ("z_max = 13.3", "z_max = 0.0")]), "region.z_max", "got 0 mm", "must be above region.z_min = 13.3 mm", Some("did you mean z_min = 0, z_max = 13.3?")),
+        case("region_in_metres", bodies_to_search("").replace("radius = 9.7", "radius = 0.0097").replace("cell = 0.31\n", ""), "region.radius", "(0.0097 mm)", "smaller than one cell", Some("did you mean radius = 9.7?")),
         case("cell_larger_than_region", edit("cell = 0.31", "cell = 15.0"), "region.cell", "15 mm", "a cell smaller than the region", Some("20 cells per wavelength")),
         case("cell_too_coarse", edit("cell = 0.31", "cell = 2.5"), "region.cell", "2.5 mm gives only 2.85 cells per wavelength", "at least 4 are needed", Some("set region.cell to 0.355 mm")),
         case("absurd_grid", edit("cell = 0.31", "cell = 0.00001"), "region.cell", "cells of 0.00001 mm", "more than the 200000000 cells", Some("lengths are in millimetres")),
