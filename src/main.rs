@@ -214,6 +214,11 @@ fn load(file: &PathBuf, m: &Option<Vec<u32>>) -> Result<Scenario, Failure> {
         if ms.is_empty() {
             return Err(Failure::Input("--m: the list is empty".into()));
         }
+        if let Some(bad) = ms.iter().find(|&&m| m > 64) {
+            return Err(Failure::Input(format!(
+                "--m {bad}: azimuthal orders are whole numbers from 0 to 64"
+            )));
+        }
         let mut ms = ms.clone();
         ms.sort_unstable();
         ms.dedup();
@@ -231,9 +236,11 @@ fn failure(e: StudyError, name: &str) -> Failure {
             }
             .to_string(),
         ),
-        StudyError::Run(e @ lathe::solver::SolverError::TooMuchMemory { .. }) => {
-            Failure::Input(e.to_string())
-        }
+        StudyError::Run(
+            e @ (lathe::solver::SolverError::TooMuchMemory { .. }
+            | lathe::solver::SolverError::NothingToSolve { .. }
+            | lathe::solver::SolverError::Placement { .. }),
+        ) => Failure::Input(format!("{name}: {e}")),
         StudyError::Run(e) => Failure::Run(e.to_string()),
         StudyError::TooBig(msg) => Failure::Input(format!("{name}: {msg}")),
     }
@@ -253,9 +260,7 @@ fn problem_of(s: &Scenario, name: &str) -> Result<lathe::solver::Problem, Failur
 
 fn pool(threads: Option<usize>) -> Result<rayon::ThreadPool, Failure> {
     if threads == Some(0) {
-        return Err(Failure::Input(
-            "--threads 0: at least one thread is needed".into(),
-        ));
+        return Err(Failure::Input("--threads 0: must be at least 1".into()));
     }
     rayon::ThreadPoolBuilder::new()
         .num_threads(threads.unwrap_or(0))

@@ -133,6 +133,10 @@ pub const MAX_POLYGON_POINTS: usize = 10_000;
 /// bytes).
 pub const BYTES_PER_CELL: f64 = 6.0 * 1.5 * 8.0 + 3.0 * 17.0;
 
+/// Most memory a grid may need before it is refused as a typing error,
+/// bytes (64 GiB), whatever the memory cap of the run.
+pub const MAX_GRID_BYTES: f64 = 64.0 * 1073741824.0;
+
 /// A mistake in a scenario, quoting the file, the key and the value.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ScenarioError {
@@ -1313,8 +1317,10 @@ impl Scenario {
 
     /// The grid the solver steps: the region plus its absorbers' cells, with
     /// the same steps. Refused, before anything is allocated, when a run on
-    /// it would need more memory than a run may use
-    /// ([`BYTES_PER_CELL`] per cell against `RunOptions::max_memory`).
+    /// it would need more than [`MAX_GRID_BYTES`] ([`BYTES_PER_CELL`] per
+    /// cell) — a guard against typing errors; the memory cap a study runs
+    /// under (`--max-memory`, `lathe::study::check_size`) is checked
+    /// separately.
     pub fn solver_grid(&self) -> Result<Grid, ScenarioError> {
         let g = self.grid()?;
         let (o, b, t) = self.absorber_cells();
@@ -1324,14 +1330,14 @@ impl Scenario {
             z0: g.z0 - b as f64 * g.dz,
             ..g
         };
-        let cap = RunOptions::default().max_memory as f64;
+        let cap = MAX_GRID_BYTES;
         let need = grid.nr as f64 * grid.nz as f64 * BYTES_PER_CELL;
         if need > cap {
             return Err(self.too_large(
                 grid.nr as f64,
                 grid.nz as f64,
                 format!(
-                    "absorbers included; a run would need about {:.1} GiB, more than the {:.1} GiB a run may use",
+                    "absorbers included; a run would need about {:.1} GiB, more than the {:.0} GiB lathe accepts for any grid",
                     need / 1073741824.0,
                     cap / 1073741824.0
                 ),

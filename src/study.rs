@@ -184,11 +184,22 @@ pub fn check_size(s: &Scenario, options: &StudyOptions) -> Result<(), StudyError
     let need = g.cells().saturating_mul(SETUP_BYTES_PER_CELL);
     let share = options.max_memory / concurrent_runs(s);
     if need > share {
+        let key = if s.cell.is_some() {
+            "region.cell"
+        } else {
+            "region.cells_per_wavelength"
+        };
+        // Cells scale as 1/cell²: the cell that would fit, rounded up.
+        let fit = g.dr.max(g.dz) * 1e3 * (need as f64 / share as f64).sqrt() * 1.01;
+        let decimals = (2.0 - fit.log10().floor()).max(0.0) as usize;
+        let step = 10f64.powi(-(decimals as i32));
+        let fit = format!("{:.*}", decimals, (fit / step).ceil() * step);
         return Err(StudyError::TooBig(format!(
-            "the grid of {} × {} = {} cells needs about {:.0} MiB per run to set up, above the memory cap of {:.0} MiB per run ({:.0} MiB for {} run(s) at once); coarsen region.cell or region.cells_per_wavelength, or raise --max-memory",
+            "{key}: a grid of {} × {} = {} cells of {:.4} mm (absorbers included) needs about {:.0} MiB per run to set up, more than the {:.0} MiB a run may use under the memory cap of {:.0} MiB for {} run(s) at once; hint: a cell of {fit} mm would fit, or raise the cap with --max-memory",
             g.nr,
             g.nz,
             g.cells(),
+            g.dr.max(g.dz) * 1e3,
             need as f64 / 1048576.0,
             share as f64 / 1048576.0,
             options.max_memory as f64 / 1048576.0,
