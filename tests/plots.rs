@@ -16,14 +16,14 @@
 use lathe::mesh::Component;
 use lathe::plots::colour::{rgb8_to_oklab, ColourMap};
 use lathe::plots::{
-    probe_spectrum, AbsorberView, Animation, AnimationOptions, CentredField, DirectivityMap,
-    FieldKind, FieldMap, Figure, MapOptions, ModeScene, PlotError, PolarCut, Shown, Spectrum,
-    SpectrumOptions, Window,
+    file_label, probe_spectrum, write_study, AbsorberView, Animation, AnimationOptions,
+    CentredField, DirectivityMap, FieldKind, FieldMap, Figure, MapOptions, ModeScene, PlotError,
+    PolarCut, SetOptions, Shown, Spectrum, SpectrumOptions, Window,
 };
 use lathe::scenario::Scenario;
 use lathe::solver::exact::bessel::{bessel_j, bessel_j_zeros};
 use lathe::solver::{solve, RunOutput};
-use lathe::study::{run_study, Study};
+use lathe::study::{run_study, Study, StudyRun};
 use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 
@@ -688,4 +688,63 @@ fn unwritable_paths_are_errors_that_name_them() {
     // No such mode.
     let e = ModeScene::from_run(&r[0], 5, &s.bodies).unwrap_err();
     assert!(e.to_string().contains("no mode 5"), "{e}");
+}
+
+#[test]
+fn a_study_is_written_as_one_folder_of_pictures() {
+    let d = fresh_dir("set");
+    let (s, study) = open();
+    let opts = SetOptions {
+        svg: true,
+        ..SetOptions::default()
+    };
+    let w = write_study(study, s, d.join("open"), &opts).unwrap();
+    let modes: usize = study.runs.iter().map(|r| r.output.modes.len()).sum();
+    let kept: usize = study
+        .runs
+        .iter()
+        .map(|r| r.output.mode_fields.iter().filter(|f| f.is_some()).count())
+        .sum();
+    // Two spectra (the PEC and PMC halves), a PNG and an SVG per kept mode.
+    assert_eq!(w.files.len(), 2 + 2 * kept, "{:?}", w.files);
+    assert_eq!(w.skipped.len(), modes - kept);
+    assert!(w.files.iter().any(|p| p.ends_with("spectrum_m0_pec.png")));
+    assert!(w.files.iter().any(|p| p.ends_with("spectrum_m0_pmc.png")));
+    for p in &w.files {
+        match p.extension().and_then(|e| e.to_str()) {
+            Some("png") => {
+                let (x, y) = png_size(p);
+                assert!(x >= 480 && y >= 320, "{}: {x}×{y}", p.display());
+            }
+            Some("svg") => assert!(std::fs::metadata(p).unwrap().len() < 1_000_000),
+            _ => panic!("unexpected file {}", p.display()),
+        }
+    }
+    // m = 1 adds the E_φ map; animations on request.
+    let (s1, r1) = puck();
+    let one = Study {
+        runs: vec![StudyRun {
+            plane: None,
+            output: r1[0].clone(),
+        }],
+    };
+    let opts = SetOptions {
+        animate: true,
+        ..SetOptions::default()
+    };
+    let w = write_study(&one, s1, d.join("puck"), &opts).unwrap();
+    let n = r1[0].modes.len();
+    assert_eq!(w.files.len(), 1 + 3 * n, "{:?} {:?}", w.files, w.skipped);
+    assert!(w
+        .files
+        .iter()
+        .any(|p| p.ends_with("mode01_HEM11d_m1_ephi.png")));
+    for p in w
+        .files
+        .iter()
+        .filter(|p| p.extension().is_some_and(|e| e == "gif"))
+    {
+        assert_eq!(gif_size(p).0, 760);
+    }
+    assert_eq!(file_label("TE/TM01δ?"), "TE_TM01d");
 }

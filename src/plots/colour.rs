@@ -216,12 +216,15 @@ impl ColourMap {
     }
 }
 
-/// A qualitative palette for lines (probes, co-/cross-polar): equal Oklab
-/// lightness 0.55 and chroma 0.14, hues 255°, 40°, 145°, 320°, 90°, 200°
-/// (then repeating), so no line stands out by brightness alone.
+/// A qualitative palette for lines (probes, co-/cross-polar): chroma 0.14
+/// and hues 255°, 40°, 145°, 320°, 90°, 200° in Oklab, at lightness 0.55
+/// for the first six lines, then 0.38 and 0.72 for the next sixes (then
+/// repeating), so that lines of one set differ by hue only.
 pub fn line_colour(k: usize) -> [u8; 3] {
     const HUES: [f64; 6] = [255.0, 40.0, 145.0, 320.0, 90.0, 200.0];
-    oklch_in_gamut(0.55, 0.14, HUES[k % HUES.len()]).map(|v| (v * 255.0).round() as u8)
+    const LIGHT: [f64; 3] = [0.55, 0.38, 0.72];
+    let l = LIGHT[(k / HUES.len()) % LIGHT.len()];
+    oklch_in_gamut(l, 0.14, HUES[k % HUES.len()]).map(|v| (v * 255.0).round() as u8)
 }
 
 #[cfg(test)]

@@ -115,6 +115,16 @@ pub fn text(size: f64) -> TextStyle<'static> {
         .pos(Pos::new(HPos::Left, VPos::Top))
 }
 
+/// Measured width of `s` in the bundled font at `px` pixels.
+pub fn text_width(s: &str, px: f64) -> f64 {
+    fonts();
+    (FAMILY, px)
+        .into_font()
+        .box_size(s)
+        .map(|b| b.0 as f64)
+        .unwrap_or(0.6 * px * s.chars().count() as f64)
+}
+
 /// `text(size)` anchored at `h`, `v`.
 pub fn text_at(size: f64, h: HPos, v: VPos) -> TextStyle<'static> {
     text(size).pos(Pos::new(h, v))

@@ -57,8 +57,8 @@
 //! by the GIF encoder).
 use super::colour::{rgb8_to_oklab, ColourMap};
 use super::draw::{
-    arrow, colour_bar, de, fonts, nice_ticks, polyline, rgb, text, text_at, tick_label, Clip, Draw,
-    Raster, FAMILY, INK, METAL, PMC_INK,
+    arrow, colour_bar, de, nice_ticks, polyline, rgb, text, text_at, text_width, tick_label, Clip,
+    Draw, Raster, FAMILY, INK, METAL, PMC_INK,
 };
 use super::field::{CentredField, FieldKind, Lattice, Shown};
 use super::scene::ModeScene;
@@ -276,11 +276,11 @@ impl FieldMap {
                 let scale = max_inside(&mag, &inside).max(ARROW_SHARE * total);
                 map.arrows = Some(Arrows { vr, vz, scale });
                 sub += &format!(
-                    "   ·   arrows: ({f}r, {f}z) at ωt = {:.0}°",
+                    "  ·  arrows: ({f}r, {f}z) at ωt = {:.0}°",
                     psi.to_degrees().rem_euclid(360.0)
                 );
             } else {
-                sub += &format!("   ·   in-plane {f} below 1 % of |{f}|: no arrows");
+                sub += &format!("  ·  in-plane {f} below 1 % of |{f}|: no arrows");
             }
         }
         map.subtitle = sub + &map.subtitle;
@@ -459,16 +459,6 @@ fn outline(shape: &Shape) -> Vec<(f64, f64)> {
     }
 }
 
-/// Measured width of `s` in the bundled font at `px`.
-fn text_width(s: &str, px: f64) -> f64 {
-    fonts();
-    (FAMILY, px)
-        .into_font()
-        .box_size(s)
-        .map(|b| b.0 as f64)
-        .unwrap_or(0.6 * px * s.chars().count() as f64)
-}
-
 const LEGEND_GLYPH: f64 = 28.0;
 const LEGEND_GAP: f64 = 24.0;
 
@@ -645,17 +635,17 @@ fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
     let mut title = if mode.label.is_empty() {
         String::new()
     } else {
-        format!("{}   ", mode.label)
+        format!("{}  ·  ", mode.label)
     };
     title += &format!(
-        "m = {}   f = {:.4} GHz   {}",
+        "m = {}  ·  f = {:.4} GHz  ·  {}",
         mode.m,
         mode.freq_hz / 1e9,
         q_text(mode)
     );
     let note = match (scene.plane, unfolded) {
-        (Some(p), None) => format!("   ·   half over a {} plane", p.name().to_uppercase()),
-        (_, Some(_)) => "   ·   mirrored about the symmetry plane".to_string(),
+        (Some(p), None) => format!("  ·  half over a {} plane", p.name().to_uppercase()),
+        (_, Some(_)) => "  ·  mirrored about the symmetry plane".to_string(),
         _ => String::new(),
     };
     let left = (-(-1f64).powi(m as i32), (-1f64).powi(m as i32));
@@ -1144,7 +1134,7 @@ impl Animation {
                 scale: self.arrow_scale,
             });
             let s = self.kind.symbol();
-            sub += &format!("   ·   arrows: ({s}r, {s}z)");
+            sub += &format!("  ·  arrows: ({s}r, {s}z)");
         }
         f.subtitle = sub + &f.subtitle;
         f

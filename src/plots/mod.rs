@@ -13,6 +13,9 @@
 //! | polar cut | [`PolarCut::new`] | co- and cross-polar dB against θ on a polar chart |
 //! | directivity map | [`DirectivityMap::new`] | dBi over (θ, φ) as colour |
 //!
+//! [`write_study`] writes the standard set for a whole study (a spectrum
+//! per run, a map per mode, optionally animations) into one folder.
+//!
 //! ```no_run
 //! use lathe::plots::{Figure, FieldMap, MapOptions, ModeScene, Spectrum, SpectrumOptions};
 //! # fn demo(run: &lathe::solver::RunOutput, s: &lathe::scenario::Scenario) -> Result<(), lathe::plots::PlotError> {
@@ -42,6 +45,7 @@ pub mod field;
 mod field_map;
 mod pattern;
 mod scene;
+mod set;
 mod spectrum;
 
 pub use colour::ColourMap;
@@ -49,6 +53,7 @@ pub use field::{CentredField, FieldKind, Shown};
 pub use field_map::{AbsorberView, Animation, AnimationOptions, FieldMap, MapOptions};
 pub use pattern::{DirectivityMap, PolarCut};
 pub use scene::ModeScene;
+pub use set::{file_label, write_study, SetOptions, Written};
 pub use spectrum::{probe_spectrum, ProbeSpectrum, Spectrum, SpectrumOptions, Window};
 
 use plotters::prelude::*;

@@ -19,7 +19,8 @@
 //! 0.1 % at the default resolution.
 use super::colour::line_colour;
 use super::draw::{
-    de, nice_ticks, polyline, rgb, text, text_at, tick_label, Clip, Draw, Raster, FAMILY,
+    de, nice_ticks, polyline, rgb, text, text_at, text_width, tick_label, Clip, Draw, Raster,
+    FAMILY,
 };
 use super::{PlotError, PlotFrame};
 use lathe_solver::{Mode, RunOutput};
@@ -191,6 +192,26 @@ pub struct Spectrum {
     size: (u32, u32),
     title: String,
     subtitle: String,
+    legend_rows: usize,
+}
+
+/// The legend's items: each probe, then the mode mark.
+const MARK_TEXT: &str = "mode (harmonic inversion)";
+
+/// Where each legend item starts, (x, row), for a picture `width` wide.
+fn legend_layout(names: &[&str], width: f64) -> Vec<(f64, usize)> {
+    let mut out = Vec::new();
+    let (mut x, mut row) = (12.0, 0);
+    for n in names {
+        let w = 36.0 + text_width(n, 16.0);
+        if x + w > width - 12.0 && x > 12.0 {
+            x = 12.0;
+            row += 1;
+        }
+        out.push((x, row));
+        x += w + 22.0;
+    }
+    out
 }
 
 impl Spectrum {
@@ -273,6 +294,15 @@ impl Spectrum {
             })
             .collect();
         let n = signals[0].len();
+        let size = (opts.size.0.max(480), opts.size.1.max(320));
+        let names: Vec<String> = (0..signals.len())
+            .map(|k| format!("probe {}", k + 1))
+            .collect();
+        let mut items: Vec<&str> = names.iter().map(|s| s.as_str()).collect();
+        items.push(MARK_TEXT);
+        let legend_rows = legend_layout(&items, size.0 as f64)
+            .last()
+            .map_or(1, |l| l.1 + 1);
         let win = match opts.window {
             Window::Rectangular => "no window",
             Window::Hann => "Hann window",
@@ -282,7 +312,8 @@ impl Spectrum {
             marks,
             band: band_hz,
             range_db: opts.range_db,
-            size: (opts.size.0.max(480), opts.size.1.max(320)),
+            size,
+            legend_rows,
             title: title.to_string(),
             subtitle: format!(
                 "|FFT| of the ring-down: {n} samples, {win}, zero-padded to {}; dB below the largest peak of any probe",
@@ -306,7 +337,7 @@ impl Draw for Spectrum {
             .map_err(de)?;
         root.draw_text(&self.subtitle, &text(15.0), (12, 42))
             .map_err(de)?;
-        let (_, area) = root.split_vertically(94);
+        let (_, area) = root.split_vertically(70 + 24 * self.legend_rows as i32);
         let (f0, f1) = (self.band.0 / 1e9, self.band.1 / 1e9);
         let mut chart = ChartBuilder::on(&area)
             .margin(12)
@@ -391,33 +422,37 @@ impl Draw for Spectrum {
             root.draw_text(label, &style, (x + 3, top + 6))
                 .map_err(de)?;
         }
-        // Legend: one row under the subtitle.
-        let mut lx = 12;
-        for (k, (name, _, _)) in self.curves.iter().enumerate() {
-            root.draw(&PathElement::new(
-                vec![(lx, 80), (lx + 28, 80)],
-                rgb(line_colour(k)).stroke_width(3),
-            ))
-            .map_err(de)?;
-            let st = text_at(16.0, HPos::Left, VPos::Center);
-            root.draw_text(name, &st, (lx + 36, 80)).map_err(de)?;
-            lx += 36 + root.estimate_text_size(name, &st).map_err(de)?.0 as i32 + 22;
-        }
+        // Legend: rows under the subtitle.
+        let mut items: Vec<&str> = self.curves.iter().map(|c| c.0.as_str()).collect();
+        items.push(MARK_TEXT);
         let st = text_at(16.0, HPos::Left, VPos::Center);
-        polyline(
-            root,
-            &[(lx as f64, 80.0), (lx as f64 + 28.0, 80.0)],
-            &Clip {
-                x0: 0.0,
-                y0: 0.0,
-                x1: 1e9,
-                y1: 1e9,
-            },
-            RGBColor(90, 90, 90).stroke_width(1),
-            Some((6, 4)),
-        )?;
-        root.draw_text("mode (harmonic inversion)", &st, (lx + 36, 80))
-            .map_err(de)?;
+        let all = Clip {
+            x0: 0.0,
+            y0: 0.0,
+            x1: 1e9,
+            y1: 1e9,
+        };
+        for (k, (name, (x, row))) in items
+            .iter()
+            .zip(legend_layout(&items, self.size.0 as f64))
+            .enumerate()
+        {
+            let y = 80.0 + 24.0 * row as f64;
+            let seg = [(x, y), (x + 28.0, y)];
+            if k < self.curves.len() {
+                polyline(root, &seg, &all, rgb(line_colour(k)).stroke_width(3), None)?;
+            } else {
+                polyline(
+                    root,
+                    &seg,
+                    &all,
+                    RGBColor(90, 90, 90).stroke_width(1),
+                    Some((6, 4)),
+                )?;
+            }
+            root.draw_text(name, &st, (x as i32 + 36, y as i32))
+                .map_err(de)?;
+        }
         Ok(Some(frame))
     }
 }
