@@ -274,8 +274,23 @@ fn tm010_arrows_point_along_the_axis() {
     // TM010 has E_r = 0 everywhere (Pozar §6.3): every drawn arrow is
     // vertical. 20 : 1 allows the leakage of other modes into the running
     // transform (lathe_solver::modefield).
+    let d = fresh_dir("tm010_arrows");
     let scene = tm010();
     let fig = FieldMap::new(&scene, &MapOptions::default()).unwrap();
+    let path = fig.write(d.join("tm010_arrows.png")).unwrap();
+    assert_eq!(png_size(&path), fig.size());
+    // A narrow picture wraps its subtitle and keeps its width.
+    let narrow = FieldMap::new(
+        &scene,
+        &MapOptions {
+            width: 480,
+            ..MapOptions::default()
+        },
+    )
+    .unwrap();
+    let p = narrow.write(d.join("tm010_narrow.png")).unwrap();
+    assert_eq!(png_size(&p), narrow.size());
+    assert_eq!(narrow.size().0, 480);
     let frame = fig.frame().unwrap();
     let arrows = fig.arrows(&frame);
     assert!(arrows.len() > 50, "only {} arrows", arrows.len());

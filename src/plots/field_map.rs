@@ -221,7 +221,9 @@ pub struct FieldMap {
     bar_ticks: Vec<(f64, String)>,
     legend: Vec<Legend>,
     legend_rows: usize,
-    size: (u32, u32),
+    width: u32,
+    plot_h: u32,
+    min_sub_lines: usize,
     arrow_spacing: u32,
     svg_blocks: usize,
 }
@@ -476,8 +478,29 @@ fn legend_rows(items: &[Legend], width: f64) -> usize {
     rows
 }
 
-fn top_height(rows: usize) -> u32 {
-    72 + 24 * rows as u32 + 8
+/// Height of the header: title, `lines` of subtitle, `rows` of legend.
+fn top_height(lines: usize, rows: usize) -> u32 {
+    legend_top(lines) as u32 + 24 * rows as u32 + 6
+}
+
+/// Top of the legend's first row under `lines` of subtitle.
+fn legend_top(lines: usize) -> f64 {
+    56.0 + 22.0 * lines as f64
+}
+
+/// `s` broken at its " · " separators into lines that fit `width` px.
+fn wrap(s: &str, px: f64, width: f64) -> Vec<String> {
+    let mut lines: Vec<String> = Vec::new();
+    for part in s.split("  ·  ") {
+        match lines.last_mut() {
+            Some(l) if text_width(&format!("{l}  ·  {part}"), px) <= width => {
+                l.push_str("  ·  ");
+                l.push_str(part);
+            }
+            _ => lines.push(part.to_string()),
+        }
+    }
+    lines
 }
 
 fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
@@ -629,7 +652,6 @@ fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
     let plot_h = plot_h.max(MIN_PLOT);
     let w = (plot_w + (BAR_PANEL + RIGHT_MARGIN + MARGIN + Y_LABELS) as f64).round();
     let rows = legend_rows(&legend, w);
-    let h = plot_h.round() as u32 + top_height(rows) + 2 * MARGIN + X_LABELS;
 
     let mode = scene.mode;
     let mut title = if mode.label.is_empty() {
@@ -669,7 +691,9 @@ fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
             bar_ticks: Vec::new(),
             legend,
             legend_rows: rows,
-            size: (w as u32, h),
+            width: w as u32,
+            plot_h: plot_h.round() as u32,
+            min_sub_lines: 1,
             arrow_spacing: opts.arrow_spacing_px,
             svg_blocks: opts.svg_blocks.max(1),
         },
@@ -681,7 +705,8 @@ fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
 
 impl Draw for FieldMap {
     fn canvas_size(&self) -> (u32, u32) {
-        self.size
+        let top = top_height(self.sub_lines().len(), self.legend_rows);
+        (self.width, self.plot_h + top + 2 * MARGIN + X_LABELS)
     }
 
     fn draw_on<DB: DrawingBackend>(
@@ -689,13 +714,16 @@ impl Draw for FieldMap {
         root: &DrawingArea<DB, Shift>,
         raster: Raster,
     ) -> Result<Option<PlotFrame>, String> {
-        let (w, _h) = self.size;
+        let w = self.width;
         root.draw_text(&self.title, &text(TITLE_PX), (12, 10))
             .map_err(de)?;
-        root.draw_text(&self.subtitle, &text(SUB_PX), (12, 44))
-            .map_err(de)?;
-        self.draw_legend(root)?;
-        let top = top_height(self.legend_rows);
+        let lines = self.sub_lines();
+        for (k, l) in lines.iter().enumerate() {
+            root.draw_text(l, &text(SUB_PX), (12, 44 + 22 * k as i32))
+                .map_err(de)?;
+        }
+        self.draw_legend(root, legend_top(lines.len()))?;
+        let top = top_height(lines.len(), self.legend_rows);
         let (_, rest) = root.split_vertically(top);
         let (chart_area, _) = rest.split_horizontally(w - BAR_PANEL);
         let (x0, x1, z0, z1) = self.view;
@@ -896,10 +924,24 @@ impl FieldMap {
         Ok(())
     }
 
-    fn draw_legend<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), String> {
-        let width = self.size.0 as f64;
+    /// The subtitle broken into lines that fit (at least
+    /// `min_sub_lines`, so animation frames keep one size).
+    fn sub_lines(&self) -> Vec<String> {
+        let mut l = wrap(&self.subtitle, SUB_PX, self.width as f64 - 24.0);
+        while l.len() < self.min_sub_lines {
+            l.push(String::new());
+        }
+        l
+    }
+
+    fn draw_legend<DB: DrawingBackend>(
+        &self,
+        root: &DrawingArea<DB, Shift>,
+        y0: f64,
+    ) -> Result<(), String> {
+        let width = self.width as f64;
         let mut x = 12.0;
-        let mut y = 78.0;
+        let mut y = y0;
         for it in &self.legend {
             let tw = text_width(it.text(), LEGEND_PX);
             if x + LEGEND_GLYPH + 8.0 + tw > width - 12.0 && x > 12.0 {
@@ -1021,6 +1063,7 @@ pub struct Animation {
     arrows: bool,
     frames: usize,
     frame_ms: u32,
+    sub_lines: usize,
 }
 
 impl Animation {
@@ -1085,7 +1128,7 @@ impl Animation {
                 (0.5 * (v + 1.0), tick_label(v, 0.5))
             })
             .collect();
-        Ok(Animation {
+        let mut anim = Animation {
             template,
             cf,
             component,
@@ -1095,7 +1138,16 @@ impl Animation {
             arrows,
             frames: opts.frames.max(2),
             frame_ms: opts.frame_ms.max(10),
-        })
+            sub_lines: 1,
+        };
+        // Every frame gets as many subtitle lines as the longest needs, so
+        // all frames have one size.
+        let width = anim.template.width as f64 - 24.0;
+        anim.sub_lines = (0..anim.frames)
+            .map(|k| wrap(&anim.subtitle(k), SUB_PX, width).len())
+            .max()
+            .unwrap_or(1);
+        Ok(anim)
     }
 
     /// Frames per period.
@@ -1120,12 +1172,6 @@ impl Animation {
             .iter()
             .map(|v| v / self.peak)
             .collect();
-        let mut sub = format!(
-            "colour: {} (real field) at t = {}/{} T",
-            pretty(self.component),
-            k,
-            self.frames
-        );
         if self.arrows {
             let [cr, _, cz] = self.kind.components();
             f.arrows = Some(Arrows {
@@ -1133,11 +1179,25 @@ impl Animation {
                 vz: self.cf.real_at(cz, psi),
                 scale: self.arrow_scale,
             });
+        }
+        f.subtitle = self.subtitle(k);
+        f.min_sub_lines = self.sub_lines;
+        f
+    }
+
+    /// The subtitle of frame `k`.
+    fn subtitle(&self, k: usize) -> String {
+        let mut sub = format!(
+            "colour: {} (real field) at t = {}/{} T",
+            pretty(self.component),
+            k,
+            self.frames
+        );
+        if self.arrows {
             let s = self.kind.symbol();
             sub += &format!("  ·  arrows: ({s}r, {s}z)");
         }
-        f.subtitle = sub + &f.subtitle;
-        f
+        sub + &self.template.subtitle
     }
 
     /// Writes the frames as `frame_000.png`, `frame_001.png`, … in
@@ -1162,7 +1222,7 @@ impl Animation {
             path: path.to_path_buf(),
             message: e.to_string(),
         };
-        let (w, h) = self.template.size;
+        let (w, h) = self.frame(0).size();
         let mut gif = BitMapBackend::gif(path, (w, h), self.frame_ms).map_err(|e| err(&e))?;
         for k in 0..self.frames {
             let pic = self.frame(k).render()?;
