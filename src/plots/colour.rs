@@ -253,8 +253,11 @@ mod tests {
 
     #[test]
     fn the_transfer_function_round_trips() {
+        // 1e-6: the standard's two pieces meet only to about 1e-7 at the
+        // knee (c = 0.04045); elsewhere the round trip is exact to 1e-12.
         for c in [0.0, 0.01, 0.04045, 0.3, 1.0] {
-            assert!((linear_to_srgb(srgb_to_linear(c)) - c).abs() < 1e-12);
+            let tol = if c == 0.04045 { 1e-6 } else { 1e-12 };
+            assert!((linear_to_srgb(srgb_to_linear(c)) - c).abs() < tol, "{c}");
         }
     }
 }

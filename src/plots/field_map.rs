@@ -16,8 +16,8 @@
 //!   maximum and a fifth of the maximum of the total envelope (so a field
 //!   that is nearly all E_φ gets short arrows, not inflated ones); arrows
 //!   shorter than 4 % of that are left out, and none are drawn when the
-//!   in-plane field stays below 1 % of the total (a TE mode at m = 0).
-//!   Each arrow is black or white, whichever stands out from the colour
+//!   in-plane field stays below 1 % of the total (a TE mode at m = 0), nor
+//!   at lattice points inside metal. Each arrow is black or white, whichever stands out from the colour
 //!   beneath it (Oklab L above or below 0.6).
 //! - **Bodies**: dielectrics as a cased line (white on black), metal (PEC)
 //!   filled grey; edges on the axis are not drawn (they are not surfaces).
@@ -27,9 +27,11 @@
 //! - **Absorbers**: cropped by default (the map covers the physical region
 //!   only, and the legend says so); [`AbsorberView::Shade`] shows the whole
 //!   grid with the absorber cells washed out (blended 60 % towards white).
-//! - Axes in mm with equal scales on both axes (unless the region is more
-//!   than about 7 : 1 flat, or taller than the height cap), a colour bar, and
-//!   a title with the mode's label, m, f in GHz and Q.
+//! - Axes in mm with equal scales on both axes — unless that would make
+//!   the data area less than 200 px high (a region flatter than about
+//!   3 : 1 at the default width) — a colour bar, and a title with the
+//!   mode's label, m, f in GHz and Q (or its lower bound). A region taller
+//!   than the data area's 1400 px cap makes the picture narrower instead.
 //!
 //! With [`MapOptions::mirror`] the map spans −r … r: the cross-section
 //! through the axis. The colour envelope is mirrored as it is; arrows on
@@ -46,8 +48,9 @@
 //! One period of the real field u(t) = Re{U e^{jωt}} of a single component,
 //! signed, on the diverging colour map (zero white), scaled by the
 //! component's largest |U| so the colours breathe with time; arrows show the
-//! in-plane field at each instant, scaled by the largest in-plane envelope
-//! so they grow and shrink too. The component is chosen by
+//! in-plane field at each instant, scaled once for the whole period (by the
+//! larger of the in-plane envelope's maximum and a fifth of the total
+//! envelope's) so they grow and shrink too. The component is chosen by
 //! [`AnimationOptions::component`] (default: the strongest of E_r, E_φ,
 //! E_z, by Σ r|U|²). In a mirrored animation the left half shows the
 //! Cartesian components — along the picture's x axis for U_r, out of the

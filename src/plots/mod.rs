@@ -32,9 +32,9 @@
 //! value in the physical region (absorber cells excluded). Colour maps are
 //! our own, built in Oklab ([`colour`]). Text uses the bundled Noto Sans
 //! font, registered on first use, so nothing depends on the fonts of the
-//! system. SVG output draws filled maps as at most
-//! [`MapOptions::svg_blocks`] rectangles, which keeps a file well under
-//! 1 MB.
+//! system. SVG output draws a filled map as at most 5000 rectangles
+//! ([`MapOptions::svg_blocks`] for field maps), sampled at each block's
+//! centre, which keeps a file near 0.5 MB; PNG output samples every pixel.
 //!
 //! # Errors
 //! Every function returns [`PlotError`]; a file that cannot be written is
@@ -152,7 +152,9 @@ impl Picture {
 
 /// The data area of a picture and its coordinates: pixel `left` shows
 /// x = `x_mm.0`, pixel `right` x = `x_mm.1`; pixel `top` z = `z_mm.1`,
-/// `bottom` z = `z_mm.0`. In a mirrored map x = ±r.
+/// `bottom` z = `z_mm.0`. In a field map these are r (x = ±r when
+/// mirrored) and z in mm; a spectrum uses them for f in GHz and dB, a
+/// directivity map for θ and φ in degrees.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PlotFrame {
     /// Pixel column of the left edge.
