@@ -763,3 +763,17 @@ fn a_study_is_written_as_one_folder_of_pictures() {
     }
     assert_eq!(file_label("TE/TM01δ?"), "TE_TM01d");
 }
+
+#[test]
+fn a_field_with_a_nan_is_refused_not_drawn() {
+    let scene = tm010();
+    let mut field = scene.field.clone();
+    field.components[2][17].re = f64::NAN;
+    let bad = ModeScene {
+        field: &field,
+        ..scene
+    };
+    let e = FieldMap::new(&bad, &MapOptions::default()).unwrap_err();
+    assert!(e.to_string().contains("Ez of TM01δ is NaN"), "{e}");
+    assert!(Animation::new(&bad, &AnimationOptions::default()).is_err());
+}

@@ -509,6 +509,22 @@ fn wrap(s: &str, px: f64, width: f64) -> Vec<String> {
 fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
     let m = scene.mode.m;
     let g = scene.grid;
+    for (c, v) in Component::ALL.iter().zip(&scene.field.components) {
+        if let Some(k) = v
+            .iter()
+            .position(|x| !(x.re.is_finite() && x.im.is_finite()))
+        {
+            return Err(PlotError::Input {
+                what: "mode field".into(),
+                message: format!(
+                    "{} of {} is {} at node {k}; nothing to draw",
+                    c.name(),
+                    mode_name(scene.mode),
+                    v[k]
+                ),
+            });
+        }
+    }
     let mut cf = CentredField::new(g, scene.field, m);
     let (rp, mut zlo, zhi) = scene.physical();
     let mut unfolded = None;
