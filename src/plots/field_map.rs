@@ -1,5 +1,4 @@
-//! The field map of one mode over the (r, z) half-plane, and the animation
-//! of one period of its real field.
+//! The field map of one mode over the (r, z) half-plane.
 //!
 //! # What a map shows
 //! - **Colour**: an amplitude envelope of E (or H) chosen by [`Shown`],
@@ -44,20 +43,7 @@
 //! added below ([`CentredField::unfold`]), so the map shows the whole
 //! structure.
 //!
-//! # The animation
-//! One period of the real field u(t) = Re{U e^{jωt}} of a single component,
-//! signed, on the diverging colour map (zero white), scaled by the
-//! component's largest |U| so the colours breathe with time; arrows show the
-//! in-plane field at each instant, scaled once for the whole period (by the
-//! larger of the in-plane envelope's maximum and a fifth of the total
-//! envelope's) so they grow and shrink too. The component is chosen by
-//! [`AnimationOptions::component`] (default: the strongest of E_r, E_φ,
-//! E_z, by Σ r|U|²). In a mirrored animation the left half shows the
-//! Cartesian components — along the picture's x axis for U_r, out of the
-//! page for U_φ — so their sign there is −(−1)^m that of the component at
-//! the same r; U_z keeps (−1)^m. Frames are written as numbered PNG files
-//! in a folder, or as one looping GIF (colours quantised to 256 per frame
-//! by the GIF encoder).
+//! The animation of one period is in [`super::Animation`].
 use super::colour::{rgb8_to_oklab, ColourMap};
 use super::draw::{
     arrow, colour_bar, de, nice_ticks, polyline, rgb, text, text_at, text_width, tick_label, Clip,
@@ -71,7 +57,6 @@ use lathe_solver::{Mode, OuterWall, ZWall};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
-use std::path::{Path, PathBuf};
 
 /// How absorber (PML) cells appear in a map.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -145,10 +130,10 @@ struct Outline {
 }
 
 #[derive(Debug, Clone, PartialEq)]
-struct Arrows {
-    vr: Vec<f64>,
-    vz: Vec<f64>,
-    scale: f64,
+pub(super) struct Arrows {
+    pub(super) vr: Vec<f64>,
+    pub(super) vz: Vec<f64>,
+    pub(super) scale: f64,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -180,18 +165,18 @@ impl Legend {
 /// A quantity whose largest value is below this fraction of the total
 /// envelope's is taken to be zero (round-off and leakage of other modes
 /// into the running transform), and not drawn.
-const NEGLIGIBLE: f64 = 1e-6;
+pub(super) const NEGLIGIBLE: f64 = 1e-6;
 
 /// Arrows are drawn only when the in-plane field reaches this fraction of
 /// the total envelope somewhere.
-const ARROW_FLOOR: f64 = 0.01;
+pub(super) const ARROW_FLOOR: f64 = 0.01;
 /// Arrow lengths are relative to the larger of the in-plane maximum and
 /// this fraction of the total envelope's maximum, so a field that is
 /// nearly all azimuthal gets short arrows rather than inflated ones.
-const ARROW_SHARE: f64 = 0.2;
+pub(super) const ARROW_SHARE: f64 = 0.2;
 
 const TITLE_PX: f64 = 24.0;
-const SUB_PX: f64 = 17.0;
+pub(super) const SUB_PX: f64 = 17.0;
 const LEGEND_PX: f64 = 16.0;
 const TICK_PX: f64 = 17.0;
 const DESC_PX: f64 = 19.0;
@@ -207,11 +192,11 @@ const MIN_PLOT: f64 = 200.0;
 #[derive(Debug, Clone, PartialEq)]
 pub struct FieldMap {
     lat: Lattice,
-    values: Vec<f64>,
-    signed: bool,
-    left_sign: f64,
-    map: ColourMap,
-    arrows: Option<Arrows>,
+    pub(super) values: Vec<f64>,
+    pub(super) signed: bool,
+    pub(super) left_sign: f64,
+    pub(super) map: ColourMap,
+    pub(super) arrows: Option<Arrows>,
     arrow_left: (f64, f64),
     mirror: bool,
     view: (f64, f64, f64, f64),
@@ -219,24 +204,24 @@ pub struct FieldMap {
     walls: Vec<WallLine>,
     outlines: Vec<Outline>,
     title: String,
-    subtitle: String,
-    bar_label: String,
-    bar_ticks: Vec<(f64, String)>,
+    pub(super) subtitle: String,
+    pub(super) bar_label: String,
+    pub(super) bar_ticks: Vec<(f64, String)>,
     legend: Vec<Legend>,
     legend_rows: usize,
-    width: u32,
+    pub(super) width: u32,
     plot_h: u32,
-    min_sub_lines: usize,
+    pub(super) min_sub_lines: usize,
     arrow_spacing: u32,
     svg_blocks: usize,
 }
 
 /// The common part of a map and of animation frames.
-struct Base {
-    map: FieldMap,
-    cf: CentredField,
-    inside: Vec<bool>,
-    kind: FieldKind,
+pub(super) struct Base {
+    pub(super) map: FieldMap,
+    pub(super) cf: CentredField,
+    pub(super) inside: Vec<bool>,
+    pub(super) kind: FieldKind,
 }
 
 impl FieldMap {
@@ -371,7 +356,7 @@ impl FieldMap {
     }
 }
 
-fn max_inside(v: &[f64], inside: &[bool]) -> f64 {
+pub(super) fn max_inside(v: &[f64], inside: &[bool]) -> f64 {
     v.iter()
         .zip(inside)
         .filter(|(_, &i)| i)
@@ -380,7 +365,7 @@ fn max_inside(v: &[f64], inside: &[bool]) -> f64 {
 }
 
 /// "TM01δ" or "m = 1 mode" when unlabelled.
-fn mode_name(mode: &Mode) -> String {
+pub(super) fn mode_name(mode: &Mode) -> String {
     if mode.label.is_empty() {
         format!("the m = {} mode at {:.4} GHz", mode.m, mode.freq_hz / 1e9)
     } else {
@@ -492,7 +477,7 @@ fn legend_top(lines: usize) -> f64 {
 }
 
 /// `s` broken at its " · " separators into lines that fit `width` px.
-fn wrap(s: &str, px: f64, width: f64) -> Vec<String> {
+pub(super) fn wrap(s: &str, px: f64, width: f64) -> Vec<String> {
     let mut lines: Vec<String> = Vec::new();
     for part in s.split("  ·  ") {
         match lines.last_mut() {
@@ -506,7 +491,7 @@ fn wrap(s: &str, px: f64, width: f64) -> Vec<String> {
     lines
 }
 
-fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
+pub(super) fn base(scene: &ModeScene, opts: &MapOptions) -> Result<Base, PlotError> {
     let m = scene.mode.m;
     let g = scene.grid;
     for (c, v) in Component::ALL.iter().zip(&scene.field.components) {
@@ -1037,230 +1022,5 @@ impl FieldMap {
             x += LEGEND_GLYPH + 8.0 + tw + LEGEND_GAP;
         }
         Ok(())
-    }
-}
-
-/// Options of an animation.
-#[derive(Debug, Clone, PartialEq)]
-pub struct AnimationOptions {
-    /// Layout, field for the arrows, mirror, absorber view (its `shown` is
-    /// not used: the colour is one signed component).
-    pub map: MapOptions,
-    /// The component shown in colour; `None` (default) takes the strongest
-    /// component of `map.field` by Σ r|U|².
-    pub component: Option<Component>,
-    /// Frames per period (default 24, at least 2).
-    pub frames: usize,
-    /// Time each frame is shown in a GIF, ms (default 80).
-    pub frame_ms: u32,
-}
-
-impl Default for AnimationOptions {
-    fn default() -> Self {
-        AnimationOptions {
-            map: MapOptions {
-                width: 760,
-                ..MapOptions::default()
-            },
-            component: None,
-            frames: 24,
-            frame_ms: 80,
-        }
-    }
-}
-
-/// One period of a mode's real field, frame by frame (see the module
-/// docs).
-#[derive(Debug, Clone)]
-pub struct Animation {
-    template: FieldMap,
-    cf: CentredField,
-    component: Component,
-    peak: f64,
-    arrow_scale: f64,
-    kind: FieldKind,
-    arrows: bool,
-    frames: usize,
-    frame_ms: u32,
-    sub_lines: usize,
-}
-
-impl Animation {
-    /// Prepares the animation of `scene`'s mode. Errors: the chosen
-    /// component is zero (e.g. E_z of an m = 0 TE mode).
-    pub fn new(scene: &ModeScene, opts: &AnimationOptions) -> Result<Animation, PlotError> {
-        let Base {
-            map: mut template,
-            cf,
-            inside,
-            kind,
-        } = base(scene, &opts.map)?;
-        let m = scene.mode.m;
-        let weight = |c: Component| -> f64 {
-            let v = cf.get(c);
-            let mut s = 0.0;
-            for i in 0..cf.nr {
-                let r = (i as f64 + 0.5) * cf.dr;
-                for j in 0..cf.nz {
-                    if inside[i * cf.nz + j] {
-                        s += r * v[i * cf.nz + j].norm_sqr();
-                    }
-                }
-            }
-            s
-        };
-        let component = match opts.component {
-            Some(c) => c,
-            None => kind
-                .components()
-                .into_iter()
-                .max_by(|a, b| weight(*a).total_cmp(&weight(*b)))
-                .expect("three components"),
-        };
-        let modulus: Vec<f64> = cf.get(component).iter().map(|u| u.norm()).collect();
-        let peak = max_inside(&modulus, &inside);
-        let total = max_inside(&cf.amplitude(kind, Shown::Total), &inside);
-        if !(peak > NEGLIGIBLE * total && peak.is_finite()) {
-            return Err(PlotError::Input {
-                what: "animation".into(),
-                message: format!(
-                    "component {} is zero (below {NEGLIGIBLE:e} of the total) everywhere for {}; choose another",
-                    component.name(),
-                    mode_name(scene.mode)
-                ),
-            });
-        }
-        let in_plane = max_inside(&cf.amplitude(kind, Shown::InPlane), &inside);
-        let arrows = opts.map.arrows && in_plane >= ARROW_FLOOR * total;
-        let arrow_scale = in_plane.max(ARROW_SHARE * total);
-        let sign_m = (-1f64).powi(m as i32);
-        template.signed = true;
-        template.left_sign = match component {
-            Component::Ez | Component::Hz => sign_m,
-            _ => -sign_m,
-        };
-        template.map = ColourMap::diverging();
-        template.bar_label = format!("{} / max |{}|", pretty(component), pretty(component));
-        template.bar_ticks = (0..=4)
-            .map(|k| {
-                let v = -1.0 + 0.5 * k as f64;
-                (0.5 * (v + 1.0), tick_label(v, 0.5))
-            })
-            .collect();
-        let mut anim = Animation {
-            template,
-            cf,
-            component,
-            peak,
-            arrow_scale,
-            kind,
-            arrows,
-            frames: opts.frames.max(2),
-            frame_ms: opts.frame_ms.max(10),
-            sub_lines: 1,
-        };
-        // Every frame gets as many subtitle lines as the longest needs, so
-        // all frames have one size.
-        let width = anim.template.width as f64 - 24.0;
-        anim.sub_lines = (0..anim.frames)
-            .map(|k| wrap(&anim.subtitle(k), SUB_PX, width).len())
-            .max()
-            .unwrap_or(1);
-        Ok(anim)
-    }
-
-    /// Frames per period.
-    pub fn frames(&self) -> usize {
-        self.frames
-    }
-
-    /// The component shown in colour.
-    pub fn component(&self) -> Component {
-        self.component
-    }
-
-    /// Frame `k` (0 … frames − 1, taken modulo frames): the field at
-    /// ωt = 2πk/frames.
-    pub fn frame(&self, k: usize) -> FieldMap {
-        let k = k % self.frames;
-        let psi = 2.0 * std::f64::consts::PI * k as f64 / self.frames as f64;
-        let mut f = self.template.clone();
-        f.values = self
-            .cf
-            .real_at(self.component, psi)
-            .iter()
-            .map(|v| v / self.peak)
-            .collect();
-        if self.arrows {
-            let [cr, _, cz] = self.kind.components();
-            f.arrows = Some(Arrows {
-                vr: self.cf.real_at(cr, psi),
-                vz: self.cf.real_at(cz, psi),
-                scale: self.arrow_scale,
-            });
-        }
-        f.subtitle = self.subtitle(k);
-        f.min_sub_lines = self.sub_lines;
-        f
-    }
-
-    /// The subtitle of frame `k`.
-    fn subtitle(&self, k: usize) -> String {
-        let mut sub = format!(
-            "colour: {} (real field) at t = {}/{} T",
-            pretty(self.component),
-            k,
-            self.frames
-        );
-        if self.arrows {
-            let s = self.kind.symbol();
-            sub += &format!("  ·  arrows: ({s}r, {s}z)");
-        }
-        sub + &self.template.subtitle
-    }
-
-    /// Writes the frames as `frame_000.png`, `frame_001.png`, … in
-    /// folder `dir` (created if missing); returns their paths.
-    pub fn write_frames(&self, dir: impl AsRef<Path>) -> Result<Vec<PathBuf>, PlotError> {
-        let dir = dir.as_ref();
-        std::fs::create_dir_all(dir).map_err(|source| PlotError::Write {
-            path: dir.to_path_buf(),
-            source,
-        })?;
-        (0..self.frames)
-            .map(|k| self.frame(k).write(dir.join(format!("frame_{k:03}.png"))))
-            .collect()
-    }
-
-    /// Writes the frames as one looping animated GIF at `path` (parent
-    /// folders are created).
-    pub fn write_gif(&self, path: impl AsRef<Path>) -> Result<PathBuf, PlotError> {
-        let path = path.as_ref();
-        super::prepare(path)?;
-        let err = |e: &dyn std::fmt::Display| PlotError::Draw {
-            path: path.to_path_buf(),
-            message: e.to_string(),
-        };
-        let (w, h) = self.frame(0).size();
-        let mut gif = BitMapBackend::gif(path, (w, h), self.frame_ms).map_err(|e| err(&e))?;
-        for k in 0..self.frames {
-            let pic = self.frame(k).render()?;
-            gif.blit_bitmap((0, 0), (w, h), &pic.rgb)
-                .map_err(|e| err(&e))?;
-            gif.present().map_err(|e| err(&e))?;
-        }
-        Ok(path.to_path_buf())
-    }
-}
-
-/// "Ez", "Eφ", … for titles.
-fn pretty(c: Component) -> &'static str {
-    match c {
-        Component::Er => "Er",
-        Component::Ephi => "Eφ",
-        Component::Ez => "Ez",
-        Component::Hr => "Hr",
-        Component::Hphi => "Hφ",
-        Component::Hz => "Hz",
     }
 }

@@ -39,6 +39,7 @@
 //! # Errors
 //! Every function returns [`PlotError`]; a file that cannot be written is
 //! reported with its path.
+mod animation;
 pub mod colour;
 mod draw;
 pub mod field;
@@ -48,9 +49,10 @@ mod scene;
 mod set;
 mod spectrum;
 
+pub use animation::{Animation, AnimationOptions};
 pub use colour::ColourMap;
 pub use field::{CentredField, FieldKind, Shown};
-pub use field_map::{AbsorberView, Animation, AnimationOptions, FieldMap, MapOptions};
+pub use field_map::{AbsorberView, FieldMap, MapOptions};
 pub use pattern::{DirectivityMap, PolarCut};
 pub use scene::ModeScene;
 pub use set::{file_label, write_study, SetOptions, Written};
