@@ -46,6 +46,7 @@ pub mod fieldfile;
 pub mod formulas;
 pub mod loss;
 pub mod output;
+pub mod plots;
 pub mod progress;
 pub mod reference;
 pub mod refine;
