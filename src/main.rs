@@ -42,6 +42,19 @@ enum Command {
         /// Write the complex field of every mode to an HDF5 file.
         #[arg(long, value_name = "PATH.h5")]
         fields: Option<PathBuf>,
+        /// Draw the pictures into DIR: a field map of each mode (PNG) and
+        /// the probe spectrum of each run with the modes marked.
+        #[arg(long, value_name = "DIR")]
+        plots: Option<PathBuf>,
+        /// Field maps show the full cross-section (−r … r).
+        #[arg(long)]
+        mirror: bool,
+        /// Also an animated GIF of one period of each mode's field.
+        #[arg(long)]
+        animate: bool,
+        /// Also an SVG of each field map.
+        #[arg(long)]
+        svg: bool,
         /// Memory cap for the runs that step at once, e.g. 6G, 800M
         /// (binary units; a bare number is MiB). Default 4G.
         #[arg(long, value_name = "SIZE", value_parser = parse_size)]
@@ -274,6 +287,7 @@ struct Outputs {
     json: Option<PathBuf>,
     csv: Option<PathBuf>,
     fields: Option<PathBuf>,
+    plots: Option<PathBuf>,
 }
 
 impl Outputs {
@@ -282,8 +296,14 @@ impl Outputs {
         json: Option<PathBuf>,
         csv: Option<PathBuf>,
         fields: Option<PathBuf>,
+        plots: Option<PathBuf>,
     ) -> Result<Outputs, Failure> {
-        let mut o = Outputs { json, csv, fields };
+        let mut o = Outputs {
+            json,
+            csv,
+            fields,
+            plots,
+        };
         if let Some(dir) = out {
             std::fs::create_dir_all(&dir).map_err(|e| {
                 Failure::Input(format!(
@@ -300,6 +320,15 @@ impl Outputs {
             o.json.get_or_insert(dir.join("modes.json"));
             o.csv.get_or_insert(dir.join("modes.csv"));
             o.fields.get_or_insert(dir.join("fields.h5"));
+            o.plots.get_or_insert(dir.join("plots"));
+        }
+        if let Some(dir) = &o.plots {
+            std::fs::create_dir_all(dir).map_err(|e| {
+                Failure::Input(format!(
+                    "--plots {}: cannot create the folder: {e}",
+                    dir.display()
+                ))
+            })?;
         }
         if o.fields.as_deref().is_some_and(|p| p.as_os_str() == "-") {
             return Err(Failure::Input(
@@ -390,6 +419,10 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             json,
             csv,
             fields,
+            plots,
+            mirror,
+            animate,
+            svg,
             max_memory,
             threads,
             quiet,
@@ -400,7 +433,7 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
             let name = file.display().to_string();
             let problem = problem_of(&s, &name)?;
             let pool = pool(threads)?;
-            let outputs = Outputs::new(out, json, csv, fields)?;
+            let outputs = Outputs::new(out, json, csv, fields, plots)?;
             let options = StudyOptions {
                 max_memory: max_memory.unwrap_or(DEFAULT_MAX_MEMORY),
             };
@@ -479,6 +512,25 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                         "lathe: wrote the fields of {n} mode(s) to {}",
                         path.display()
                     );
+                }
+            }
+            if let Some(dir) = &outputs.plots {
+                let opts = lathe::plots::SetOptions {
+                    animate,
+                    svg,
+                    mirror,
+                };
+                let written = lathe::plots::write_study(&study, &s, dir, &opts)
+                    .map_err(|e| Failure::Input(format!("--plots: {e}")))?;
+                if !quiet {
+                    eprintln!(
+                        "lathe: drew {} picture(s) in {}",
+                        written.files.len(),
+                        dir.display()
+                    );
+                    for why in &written.skipped {
+                        eprintln!("lathe: left out {why}");
+                    }
                 }
             }
             if runs.iter().all(|r| r.modes.is_empty()) {
