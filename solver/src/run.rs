@@ -220,10 +220,18 @@ pub fn run_with(
     let mut peak_energy: f64 = 0.0;
     // Cell updates between two progress reports.
     let chunk = 64 * g.cells() as u64;
+    // The largest probe value while the pulse drives the fields: the scale
+    // of the run's round-off (see `invert`'s noise floor).
+    let mut drive_peak: f64 = 0.0;
     for &s in &table {
         step_once(&mut f);
         inject(&mut f, &coeffs, &plan.sources, s);
         step += 1;
+        if step % plan.decimation == 0 {
+            for p in &plan.probes {
+                drive_peak = drive_peak.max(read(&f, p).abs());
+            }
+        }
         if step % 64 == 0 {
             peak_energy = peak_energy.max(guard(&f, step, 0.0)?);
             progress.advance(m, chunk);
@@ -282,6 +290,7 @@ pub fn run_with(
         let found = crate::fpu::with_gradual_underflow(|| {
             invert(
                 &signals,
+                drive_peak,
                 &families,
                 plan.sample_dt,
                 plan.dt,
@@ -428,13 +437,15 @@ pub fn run_with(
     })
 }
 
-/// Poles weaker than this fraction of their signal's peak are dropped.
+/// Poles whose RMS is below this fraction of the run's largest probe value
+/// (pulse included) are dropped as round-off.
 pub const NOISE_FLOOR: f64 = 1e-10;
 
 /// Harmonic inversion of every probe signal and merging into modes.
 #[allow(clippy::too_many_arguments)]
 pub fn invert(
     signals: &[Vec<f64>],
+    drive_peak: f64,
     families: &[Option<crate::modes::Family>],
     sample_dt: f64,
     dt: f64,
@@ -444,15 +455,18 @@ pub fn invert(
     opts: &FdmOptions,
 ) -> Result<Vec<Mode>, SolverError> {
     // Noise floor: a pole whose RMS over the record is below NOISE_FLOOR of
-    // the largest probe signal of the run is round-off, not a mode (FDTD
+    // the largest probe value of the run is round-off, not a mode (FDTD
     // signals carry ~1e-16 relative noise; this leaves six decades of margin
-    // for weakly coupled modes). The reference is the run's largest signal,
-    // not each signal's own: a probe that sees nothing (at m = 0 the TE probe
-    // of a structure with no TE mode in the band) records round-off only.
+    // for weakly coupled modes). The reference is the run's largest value —
+    // over the ring-down and, `drive_peak`, while the pulse drove the fields,
+    // since round-off scales with the largest field the run ever held — not
+    // each signal's own: a probe that sees nothing (at m = 0 the TE probe of
+    // a structure with no TE mode in the band, or a symmetry half that
+    // couples to almost nothing) records round-off only.
     let peak = signals
         .iter()
         .flat_map(|s| s.iter())
-        .fold(0.0f64, |a, x| a.max(x.abs()));
+        .fold(drive_peak, |a, x| a.max(x.abs()));
     let per_probe: Vec<_> = signals
         .iter()
         .map(|s| {
