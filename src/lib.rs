@@ -44,6 +44,7 @@
 
 pub mod formulas;
 pub mod output;
+pub mod radiation;
 pub mod reference;
 pub mod refine;
 pub mod scenario;

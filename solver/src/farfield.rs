@@ -105,11 +105,13 @@
 //! # Stored energy and Q
 //! See [`energy`]: W = W_ball − W_rad + W_ext, Q = ω W / P.
 pub mod energy;
+mod leakage;
 pub mod pattern;
 pub mod special;
 mod surface;
 
 pub use energy::{EnergyOptions, Multipoles, StoredEnergy};
+pub use leakage::Leakage;
 pub use pattern::{Cut, Cuts, Peak, Polarisation, FLOOR_DB};
 pub use surface::HuygensBox;
 
@@ -290,6 +292,10 @@ pub struct ModeData<'a> {
     pub walls: &'a Walls,
     /// Materials of the run (ε per electric node).
     pub materials: &'a MaterialMap,
+    /// `Some(Δt)` when the phasors come from a running transform over a
+    /// real ring-down stepped at Δt (then the transform's negative-frequency
+    /// image is removed, see [`Leakage`]); `None` for exact phasors.
+    pub ring_down_dt: Option<f64>,
 }
 
 impl<'a> ModeData<'a> {
@@ -317,6 +323,7 @@ impl<'a> ModeData<'a> {
             grid: &run.grid,
             walls: &run.walls,
             materials,
+            ring_down_dt: Some(run.report.dt),
         })
     }
 }
@@ -350,6 +357,7 @@ pub struct Radiator<'a> {
     p_surface: f64,
     /// Farthest distance of a current from the reference point, m.
     reach: f64,
+    leakage: Option<Leakage>,
 }
 
 impl<'a> Radiator<'a> {
@@ -375,8 +383,20 @@ impl<'a> Radiator<'a> {
                 what: format!("frequency {} Hz, decay {} 1/s", data.freq_hz, data.decay),
             });
         }
-        let components = surface::clean_components(&data);
+        let mut components = surface::clean_components(&data);
         let surface = HuygensBox::place(g, data.walls, opts)?;
+        let omega = 2.0 * PI * data.freq_hz;
+        let leakage = data.ring_down_dt.map(|dt| {
+            let reg = surface::Region::of(g, data.walls);
+            leakage::remove_image(
+                g,
+                &reg,
+                data.m,
+                C::new(omega, data.decay),
+                dt,
+                &mut components,
+            )
+        });
         surface::check_bodies(data.materials, &surface)?;
         let origin_z = match (opts.origin_z, opts.lower.plane()) {
             (Some(z), _) => z,
@@ -384,7 +404,6 @@ impl<'a> Radiator<'a> {
             (None, None) => surface::body_centre(data.materials)
                 .unwrap_or(0.5 * (surface.z_bottom_m + surface.z_top_m)),
         };
-        let omega = 2.0 * PI * data.freq_hz;
         let k = C::new(omega, data.decay) / C0;
         let (radii, rings, p_surface) =
             surface::rings(g, &components, &surface, opts.lower, origin_z, data.m);
@@ -404,7 +423,14 @@ impl<'a> Radiator<'a> {
             rings,
             p_surface,
             reach,
+            leakage,
         })
+    }
+
+    /// The negative-frequency image removed from a ring-down transform
+    /// (`None` for exact phasors).
+    pub fn leakage(&self) -> Option<Leakage> {
+        self.leakage
     }
 
     /// Azimuthal order.

@@ -18,7 +18,10 @@
 //! co = E_θ cos φ − E_φ sin φ, cross = E_θ sin φ + E_φ cos φ. In the E- and
 //! H-planes of m = 1 the cross-polar part vanishes exactly by symmetry; in
 //! the diagonal plane it is (F_θ + F_φ)/2. For m ≥ 2 the same split is a
-//! formal one. For m = 0: co = E_θ, cross = E_φ when E_θ carries more power
+//! formal one. The definition refers to the forward direction θ = 0: near
+//! θ = 180° its co-polar unit vector turns into (−cos 2φ, −sin 2φ, 0), so
+//! in the back half space co and cross mix (an x-polarised back lobe shows
+//! as cross-polar at φ = 45°). For m = 0: co = E_θ, cross = E_φ when E_θ carries more power
 //! (TM-like, a vertical electric dipole), else the other way round.
 //!
 //! Cut values are partial directivities in dBi, 4π|E_co|²/(2η P) and

@@ -28,6 +28,31 @@ pub struct HuygensBox {
     pub on_plane: bool,
 }
 
+/// The physical region of a grid (absorber cells excluded), in indices:
+/// radii 0 … `i_outer`, rows `j_bottom` … `j_top`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Region {
+    pub i_outer: usize,
+    pub j_bottom: usize,
+    pub j_top: usize,
+}
+
+impl Region {
+    pub fn of(g: &Grid, w: &Walls) -> Region {
+        let outer = match w.outer {
+            OuterWall::Pml(a) => a.cells,
+            OuterWall::Pec => 0,
+        };
+        let bottom = w.bottom.absorber().map_or(0, |a| a.cells);
+        let top = w.top.absorber().map_or(0, |a| a.cells);
+        Region {
+            i_outer: g.nr.saturating_sub(outer),
+            j_bottom: bottom,
+            j_top: g.nz.saturating_sub(top),
+        }
+    }
+}
+
 impl HuygensBox {
     /// Places the surface `margin_cells` inside the absorbers.
     pub fn place(g: &Grid, w: &Walls, opts: &FarFieldOptions) -> Result<HuygensBox, FarFieldError> {
@@ -37,14 +62,10 @@ impl HuygensBox {
                 what: format!("margin_cells = {margin}; at least 1 is needed (one H node outside the surface)"),
             });
         }
-        let outer = match w.outer {
-            OuterWall::Pml(a) => a.cells,
-            OuterWall::Pec => 0,
-        };
-        let bottom = w.bottom.absorber().map_or(0, |a| a.cells);
-        let top = w.top.absorber().map_or(0, |a| a.cells);
-        let nr_phys = g.nr.saturating_sub(outer);
-        let jt_phys = g.nz.saturating_sub(top);
+        let reg = Region::of(g, w);
+        let bottom = reg.j_bottom;
+        let nr_phys = reg.i_outer;
+        let jt_phys = reg.j_top;
         let on_plane = opts.lower.plane().is_some();
         let i_side = nr_phys.saturating_sub(margin);
         let j_top = jt_phys.saturating_sub(margin);
