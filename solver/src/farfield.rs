@@ -14,7 +14,8 @@
 //! # Equivalent currents (Love's equivalence principle)
 //! On a closed surface S enclosing every body, with outward normal n̂, the
 //! surface currents J = n̂ × H and M = −n̂ × E radiate, in free space, the
-//! field outside S (Balanis, *Antenna Theory*, 3rd ed., §12.2). S is a box
+//! field outside S (Balanis, *Antenna Theory*, 3rd ed., ch. 12; section
+//! and equation numbers here are from memory). S is a box
 //! of revolution in the physical region just inside the absorbers
 //! ([`HuygensBox`]): a side cylinder ρ = R, a top disk z = z_t and a bottom
 //! disk z = z_b; over a PEC or PMC bottom plane the bottom disk is replaced
@@ -35,7 +36,8 @@
 //! For m = 0 both patterns are φ-independent ("cos 0 = sin 0 = 1" below).
 //!
 //! # Radiation integrals and the analytic φ-integral
-//! Far from S (Balanis eqs. 6-122, 12-12), with r̂·r' = ρ' sin θ cos(φ − φ') +
+//! Far from S (the vector-potential method, Balanis ch. 6 and 12), with
+//! r̂·r' = ρ' sin θ cos(φ − φ') +
 //! z' cos θ measured from the reference point on the axis (`origin_z`),
 //!
 //! ```text
@@ -101,6 +103,16 @@
 //!
 //! Directivity D = 4πU/P ([`Radiator::directivity`]); over an infinite
 //! ground plane P is over the upper half space only.
+//!
+//! # Fields from a ring-down transform
+//! The running transform of a real decaying signal also picks up the
+//! mode's negative-frequency image (amplitude ≈ 1/(4Q) at four samples per
+//! period), a field that is not a solution at ω̃. It is found from Faraday's
+//! law of the scheme and removed before anything else ([`Leakage`]);
+//! without that, energy and flux carry a percent-level error that depends
+//! on where the surface is. At m = 0 the other family's components are
+//! dropped ([`ModeData::family`]), and at m = 1 the axis values
+//! e_φ(0) = −e_r(0), h_r(0) = h_φ(0) are filled in.
 //!
 //! # Stored energy and Q
 //! See [`energy`]: W = W_ball − W_rad + W_ext, Q = ω W / P.

@@ -2,15 +2,17 @@
 //! stored energy on fields known exactly, sampled on the Yee grid (no FDTD).
 //!
 //! References:
-//! - Hertzian dipole fields (Balanis, *Antenna Theory*, 3rd ed., eqs. 4-8a–c,
-//!   4-10a–c; exact for any complex k since they are ∇×∇× of e^{−jkr}/r):
-//!   far field jkηIl sinθ/(4π), power ηk²|Il|²/(12π) (eq. 4-16), D = 1.5.
+//! - Hertzian dipole fields (Balanis, *Antenna Theory*, 3rd ed., ch. 4;
+//!   exact for any complex k since they are ∇×∇× of e^{−jkr}/r): far field
+//!   jkηIl sinθ/(4π), power ηk²|Il|²/(12π), D = 1.5 (the standard results,
+//!   recalled from memory, and checked here against each other: the
+//!   near fields sampled on the grid must reproduce them).
 //! - Exact natural modes of a dielectric sphere (Stratton 1941, §9.22–9.25;
 //!   characteristic equations in `lathe_solver::exact::sphere`): interior
 //!   j_1(Nk̃r), exterior h_1⁽²⁾(k̃r) multipoles, Q = Re x/(2|Im x|).
 //! - Exterior stored energy of multipoles: McLean, IEEE TAP 44(5), 1996
-//!   (n = 1, exact formula); Collin & Rothschild, IEEE TAP 12(1), 1964
-//!   (n = 2, from memory).
+//!   (n = 1: Q = 1/(ka) + 1/(ka)³, from memory); Collin & Rothschild, IEEE
+//!   TAP 12(1), 1964 (n = 2: 3/(ka) + 6/(ka)³ + 18/(ka)⁵, from memory).
 //! - Function values: A&S Table 9.8 for I_0, I_1 (from memory); the power
 //!   series of J_n (DLMF 10.2.2) as the slow obvious reference.
 use lathe_mesh::{fill, Body, Component, FillOptions, Grid, Material, MaterialMap, Shape};
@@ -104,7 +106,7 @@ fn sample(g: &Grid, m: u32, freq: f64, f: &dyn Fn(f64, f64, f64) -> Field3) -> M
 }
 
 /// Hertzian dipole of moment `il` (A·m) along unit `p` at the origin, wave
-/// number k (complex allowed). Fields (Balanis 4-8, 4-10 in vector form):
+/// number k (complex allowed). Fields (Balanis ch. 4, in vector form):
 /// E = C[−A (p − r̂(r̂·p)) + 2B r̂(r̂·p)], H = (Il e/(4π))(jk/r + 1/r²) p × r̂,
 /// C = ηIl e^{−jkr}/(4π), A = jk/r + 1/r² + 1/(jkr³), B = 1/r² + 1/(jkr³).
 fn dipole(k: C, il: f64, p: [f64; 3]) -> impl Fn(f64, f64, f64) -> Field3 {
