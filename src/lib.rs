@@ -48,6 +48,7 @@ pub mod loss;
 pub mod output;
 pub mod plots;
 pub mod progress;
+pub mod radiation;
 pub mod reference;
 pub mod refine;
 pub mod scenario;

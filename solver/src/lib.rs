@@ -42,6 +42,7 @@ pub mod consts;
 pub mod error;
 pub mod exact;
 pub mod excitation;
+pub mod farfield;
 pub mod fields;
 pub mod fpu;
 pub mod harminv;
