@@ -74,6 +74,37 @@ enum Command {
         #[arg(long)]
         refine: bool,
     },
+    /// Radiation of the modes of an open structure: directivity, E- and
+    /// H-plane cuts (co- and cross-polar, Ludwig 3), front-to-back ratio,
+    /// Q from stored energy and radiated power, bandwidth for VSWR 2.
+    Pattern {
+        /// Scenario file (TOML).
+        file: PathBuf,
+        /// Azimuthal orders, overriding the file.
+        #[arg(long, value_delimiter = ',')]
+        m: Option<Vec<u32>>,
+        /// Only this mode: its label (HEM11δ, or HEM11d) or its number in
+        /// the radiation table (0, 1, …).
+        #[arg(long, value_name = "LABEL|INDEX")]
+        mode: Option<String>,
+        /// Write, per mode, the cuts (CSV), the figures with the cuts
+        /// (JSON), polar charts of both cuts and a (θ, φ) directivity map
+        /// (PNG) into DIR.
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
+        /// Angular step of the cuts and the map, degrees.
+        #[arg(long, default_value_t = 1.0)]
+        step: f64,
+        /// Worker threads (default: all cores).
+        #[arg(long)]
+        threads: Option<usize>,
+        /// Print nothing but the results.
+        #[arg(long)]
+        quiet: bool,
+        /// Memory cap, as for `lathe modes`.
+        #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+        max_memory: Option<usize>,
+    },
     /// Measure this machine's stepping rate on a standard case (to size
     /// sweeps: a run costs its `cell_updates` divided by this rate).
     Bench {
@@ -384,8 +415,256 @@ fn write_file(flag: &str, path: &std::path::Path, text: &str) -> Result<(), Fail
     }
 }
 
+/// Runs the study of `s` with a progress bar, warning about runs that hit
+/// their maximum length and refusing non-finite results.
+fn solve_study(
+    s: &Scenario,
+    name: &str,
+    pool: &rayon::ThreadPool,
+    options: &StudyOptions,
+    quiet: bool,
+) -> Result<lathe::study::Study, Failure> {
+    let bar = lathe::progress::Bar::new(run_count(s), quiet);
+    let study = pool.install(|| run_study_with(s, options, &bar));
+    bar.finish();
+    let study = study.map_err(|e| failure(e, name))?;
+    for r in &study.runs {
+        let r = &r.output;
+        if !r.report.converged && !quiet {
+            eprintln!(
+                "warning: run m = {} reached its maximum length ({} samples) before the modes settled; raise search.max_periods",
+                r.report.m, r.report.samples
+            );
+        }
+    }
+    let bad = study
+        .runs
+        .iter()
+        .flat_map(|r| &r.output.modes)
+        .any(|m| !(m.freq_hz.is_finite() && m.q.is_finite() && m.error.is_finite()));
+    if bad {
+        return Err(Failure::Run(
+            "a mode came out with a non-finite figure; this is a bug, please report the scenario"
+                .into(),
+        ));
+    }
+    if study.runs.iter().all(|r| r.output.modes.is_empty()) {
+        return Err(Failure::Run(format!(
+            "no mode found between {:.4} and {:.4} GHz for m = {:?}",
+            s.f_min / 1e9,
+            s.f_max / 1e9,
+            s.m
+        )));
+    }
+    Ok(study)
+}
+
+/// The radiation figures of an open study (`None` for a closed one).
+fn radiation_of(
+    study: &lathe::study::Study,
+    s: &Scenario,
+    pool: &rayon::ThreadPool,
+    step: f64,
+) -> Result<Option<lathe::radiation::RadiationStudy>, Failure> {
+    let opts = lathe::radiation::RadiationOptions {
+        cut_step_deg: step,
+        ..Default::default()
+    };
+    pool.install(|| lathe::radiation::radiation(study, s, &opts))
+        .map_err(|e| Failure::Run(format!("radiation: {e}")))
+}
+
+fn pattern(
+    s: &Scenario,
+    name: &str,
+    study: &lathe::study::Study,
+    rad: &lathe::radiation::RadiationStudy,
+    mode: Option<&str>,
+    out: Option<&std::path::Path>,
+    step: f64,
+) -> Result<(), Failure> {
+    use lathe::plots::{DirectivityMap, Figure, PolarCut};
+    let picked: Vec<(usize, &lathe::radiation::Radiation)> = match mode {
+        None => rad.modes.iter().enumerate().collect(),
+        Some(key) => {
+            let plain = |t: &str| t.replace('δ', "d").to_lowercase();
+            let hit: Vec<_> = match key.parse::<usize>() {
+                Ok(i) => rad
+                    .modes
+                    .iter()
+                    .enumerate()
+                    .filter(|(k, _)| *k == i)
+                    .collect(),
+                Err(_) => rad
+                    .modes
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, r)| plain(&r.label) == plain(key))
+                    .collect(),
+            };
+            if hit.is_empty() {
+                let known: Vec<String> = rad
+                    .modes
+                    .iter()
+                    .enumerate()
+                    .map(|(k, r)| format!("{k} {}", r.label))
+                    .collect();
+                return Err(Failure::Input(format!(
+                    "--mode {key}: no such radiating mode; the modes are: {}",
+                    known.join(", ")
+                )));
+            }
+            hit
+        }
+    };
+    // Number the table's rows so --mode INDEX can be read off it.
+    let table = lathe::radiation::table(rad);
+    let mut lines = table.lines();
+    let mut numbered = format!("  # {}\n", lines.next().unwrap_or(""));
+    for (k, line) in lines.enumerate() {
+        if k < rad.modes.len() {
+            numbered.push_str(&format!("{k:>3} {line}\n"));
+        } else {
+            numbered.push_str(&format!("    {line}\n"));
+        }
+    }
+    emit(&numbered);
+    let Some(dir) = out else {
+        if let [(_, one)] = picked.as_slice() {
+            emit(&lathe::radiation::cuts_csv(one));
+        }
+        return Ok(());
+    };
+    std::fs::create_dir_all(dir).map_err(|e| {
+        Failure::Input(format!(
+            "--out {}: cannot create the folder: {e}",
+            dir.display()
+        ))
+    })?;
+    let probs = lathe::study::problems(s).map_err(|e| Failure::Input(format!("{name}: {e}")))?;
+    for (k, r) in picked {
+        let stem = format!("{k:02}_{}_m{}", lathe::plots::file_label(&r.label), r.m);
+        let path = |suffix: &str| dir.join(format!("{stem}_{suffix}"));
+        write_file("--out", &path("cuts.csv"), &lathe::radiation::cuts_csv(r))?;
+        let doc = serde_json::to_string_pretty(&r.to_json(true)).expect("JSON of plain numbers");
+        write_file("--out", &path("pattern.json"), &(doc + "\n"))?;
+        let title = format!(
+            "{} · m = {} · {:.4} GHz · D = {:.2} dBi",
+            r.label,
+            r.m,
+            r.freq_hz / 1e9,
+            r.directivity_dbi
+        );
+        let draw = |e: lathe::plots::PlotError| Failure::Input(format!("--out: {e}"));
+        for (cut, plane, file) in [
+            (&r.cuts.e_plane, "E-plane", "e_plane.png"),
+            (&r.cuts.h_plane, "H-plane", "h_plane.png"),
+        ] {
+            let plane_name = format!("{plane} (φ = {:.1}°)", cut.phi_deg);
+            PolarCut::new(
+                &cut.theta_deg,
+                &cut.co_dbi,
+                &cut.cross_dbi,
+                &title,
+                &plane_name,
+            )
+            .map_err(draw)?
+            .write(path(file))
+            .map_err(draw)?;
+        }
+        // The full (θ, φ) map, from the mode's own radiator.
+        let (run, idx) = study
+            .runs
+            .iter()
+            .enumerate()
+            .find_map(|(i, sr)| {
+                sr.output
+                    .modes
+                    .iter()
+                    .position(|md| md.m == r.m && md.freq_hz == r.freq_hz && sr.plane == r.plane)
+                    .map(|k| (i, k))
+            })
+            .ok_or_else(|| Failure::Run(format!("{}: mode not found in its study", r.label)))?;
+        let (_, _, problem) = probs
+            .iter()
+            .find(|(p, _, _)| *p == study.runs[run].plane)
+            .ok_or_else(|| Failure::Run("a run without its problem".into()))?;
+        let rad_opts = lathe::radiation::RadiationOptions::default();
+        let radiator = lathe::radiation::radiator(study, problem, run, idx, &rad_opts)
+            .map_err(|e| Failure::Run(format!("radiation: {e}")))?;
+        let n_t = (180.0 / step).round().max(2.0) as usize;
+        let n_p = (360.0 / step).round().max(2.0) as usize;
+        let thetas: Vec<f64> = (0..=n_t).map(|i| i as f64 * 180.0 / n_t as f64).collect();
+        let phis: Vec<f64> = (0..=n_p).map(|i| i as f64 * 360.0 / n_p as f64).collect();
+        let rad_t: Vec<f64> = thetas.iter().map(|t| t.to_radians()).collect();
+        let rad_p: Vec<f64> = phis.iter().map(|p| p.to_radians()).collect();
+        let lin = radiator.directivity_map(&rad_t, &rad_p);
+        let dbi: Vec<Vec<f64>> = lin
+            .chunks(phis.len())
+            .map(|row| row.iter().map(|d| 10.0 * d.max(1e-30).log10()).collect())
+            .collect();
+        DirectivityMap::new(&thetas, &phis, &dbi, &title)
+            .map_err(draw)?
+            .write(path("map.png"))
+            .map_err(draw)?;
+    }
+    Ok(())
+}
+
 fn real_main(cli: Cli) -> Result<(), Failure> {
     match cli.command {
+        Command::Pattern {
+            file,
+            m,
+            mode,
+            out,
+            step,
+            threads,
+            quiet,
+            max_memory,
+        } => {
+            if !(step.is_finite() && (0.1..=15.0).contains(&step)) {
+                return Err(Failure::Input(format!(
+                    "--step {step}: give an angle between 0.1 and 15 degrees"
+                )));
+            }
+            let s = load(&file, &m)?;
+            let name = file.display().to_string();
+            if !lathe::radiation::is_open(&s) {
+                return Err(Failure::Input(format!(
+                    "{name}: the structure is closed (no PML wall): it does not radiate; use `lathe modes`"
+                )));
+            }
+            problem_of(&s, &name)?;
+            if let Some(dir) = &out {
+                writable("--out", &dir.join("x")).or_else(|_| {
+                    std::fs::create_dir_all(dir).map_err(|e| {
+                        Failure::Input(format!(
+                            "--out {}: cannot create the folder: {e}",
+                            dir.display()
+                        ))
+                    })
+                })?;
+            }
+            let pool = pool(threads)?;
+            let options = StudyOptions {
+                max_memory: max_memory.unwrap_or(DEFAULT_MAX_MEMORY),
+            };
+            let study = solve_study(&s, &name, &pool, &options, quiet)?;
+            let rad = radiation_of(&study, &s, &pool, step)?
+                .ok_or_else(|| Failure::Input(format!("{name}: the structure does not radiate")))?;
+            pool.install(|| {
+                pattern(
+                    &s,
+                    &name,
+                    &study,
+                    &rad,
+                    mode.as_deref(),
+                    out.as_deref(),
+                    step,
+                )
+            })
+        }
         Command::Bench { seconds } => {
             if !(seconds.is_finite() && seconds > 0.0 && seconds <= 600.0) {
                 return Err(Failure::Input(format!(
@@ -469,36 +748,22 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                 }
                 return Ok(());
             }
-            let bar = lathe::progress::Bar::new(run_count(&s), quiet);
-            let study = pool.install(|| run_study_with(&s, &options, &bar));
-            bar.finish();
-            let study = study.map_err(|e| failure(e, &name))?;
-            let runs: Vec<&lathe::solver::RunOutput> =
-                study.runs.iter().map(|r| &r.output).collect();
-            for r in &runs {
-                if !r.report.converged && !quiet {
-                    eprintln!(
-                        "warning: run m = {} reached its maximum length ({} samples) before the modes settled; raise search.max_periods",
-                        r.report.m, r.report.samples
-                    );
-                }
-            }
-            let bad = runs
-                .iter()
-                .flat_map(|r| &r.modes)
-                .any(|m| !(m.freq_hz.is_finite() && m.q.is_finite() && m.error.is_finite()));
-            if bad {
-                return Err(Failure::Run(
-                    "a mode came out with a non-finite figure; this is a bug, please report the scenario".into(),
-                ));
-            }
+            let study = solve_study(&s, &name, &pool, &options, quiet)?;
+            let rad = radiation_of(&study, &s, &pool, 1.0)?;
             emit(&output::table(&study));
+            if let Some(r) = &rad {
+                emit("\nradiation (lathe pattern for cuts and maps)\n");
+                emit(&lathe::radiation::table(r));
+            }
             if compare_formulas {
                 emit(&lathe::formulas::comparison_text(&s, &study));
             }
             if let Some(path) = &outputs.json {
-                let doc = serde_json::to_string_pretty(&output::json(&study))
-                    .expect("JSON of plain numbers");
+                let mut doc = output::json(&study);
+                if let Some(r) = &rad {
+                    lathe::radiation::add_to_json(&mut doc, r);
+                }
+                let doc = serde_json::to_string_pretty(&doc).expect("JSON of plain numbers");
                 write_file("--json", path, &(doc + "\n"))?;
             }
             if let Some(path) = &outputs.csv {
@@ -532,14 +797,6 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                         eprintln!("lathe: left out {why}");
                     }
                 }
-            }
-            if runs.iter().all(|r| r.modes.is_empty()) {
-                return Err(Failure::Run(format!(
-                    "no mode found between {:.4} and {:.4} GHz for m = {:?}",
-                    s.f_min / 1e9,
-                    s.f_max / 1e9,
-                    s.m
-                )));
             }
             Ok(())
         }

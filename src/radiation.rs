@@ -204,6 +204,48 @@ pub fn radiation(
     Ok(Some(RadiationStudy { modes, skipped }))
 }
 
+/// The radiator of mode `k` of run `run` of `study` (for pattern maps and
+/// other far-field queries beyond [`Radiation`]); `problem` is the run's
+/// own (from [`crate::study::problems`], the one of the run's plane), for
+/// its materials.
+pub fn radiator<'a>(
+    study: &'a Study,
+    problem: &'a lathe_solver::Problem,
+    run: usize,
+    k: usize,
+    opts: &RadiationOptions,
+) -> Result<Radiator<'a>, RadiationError> {
+    let r = &study.runs[run];
+    let out = &r.output;
+    let mut fo = FarFieldOptions::new(lower_space(r.plane, out.walls.bottom));
+    fo.margin_cells = opts.margin_cells;
+    let data = ModeData::from_run(out, k, &problem.materials).map_err(RadiationError::FarField)?;
+    Radiator::new(data, &fo).map_err(RadiationError::FarField)
+}
+
+/// Adds `directivity_dbi`, `q_energy`, `q_energy_diff_percent` and
+/// `bandwidth_vswr2` (fraction of the centre frequency) to each mode of a
+/// `lathe::output::json` document that has radiation figures (matched by m
+/// and frequency), and the whole radiation document under `"radiation"`.
+pub fn add_to_json(doc: &mut Value, r: &RadiationStudy) {
+    if let Some(modes) = doc["modes"].as_array_mut() {
+        for v in modes.iter_mut() {
+            let (m, f) = (v["m"].as_u64(), v["freq_hz"].as_f64());
+            if let Some(x) = r
+                .modes
+                .iter()
+                .find(|x| Some(x.m as u64) == m && Some(x.freq_hz) == f)
+            {
+                v["directivity_dbi"] = json!(x.directivity_dbi);
+                v["q_energy"] = json!(x.q_energy);
+                v["q_energy_diff_percent"] = json!(x.q_energy_diff_percent);
+                v["bandwidth_vswr2"] = json!(x.bandwidth_vswr2);
+            }
+        }
+    }
+    doc["radiation"] = json(r, false);
+}
+
 /// The figures of one mode from its radiator.
 pub fn figures(
     rad: &Radiator,
@@ -292,7 +334,7 @@ pub fn table(r: &RadiationStudy) -> String {
     for x in &r.modes {
         let _ = writeln!(
             s,
-            "{:>3}  {:<12}  {:>9.5}  {:>8.2}  {:>5.1}  {:>5.1}  {:>8.2}  {}  {}  {}  {}  {:>8.1}",
+            "{:>3}  {:<12}  {:>9.5}  {:>8.2}  {:>5.1}  {:>5.1}  {:>8.2}  {}  {}  {}  {}  {}",
             x.m,
             x.label,
             x.freq_hz / 1e9,
@@ -304,7 +346,11 @@ pub fn table(r: &RadiationStudy) -> String {
             opt(x.q_energy_diff_percent, 2, 6),
             opt(x.bandwidth_vswr2.map(|b| 100.0 * b), 3, 10),
             opt(x.front_to_back_db, 1, 6),
-            x.cross_polar_db
+            if x.cross_polar_db > lathe_solver::farfield::FLOOR_DB + 1.0 {
+                format!("{:>8.1}", x.cross_polar_db)
+            } else {
+                format!("{:>8}", "none")
+            }
         );
     }
     for k in &r.skipped {

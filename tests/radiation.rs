@@ -188,8 +188,13 @@ f_max = 7.25
                 leak.residual_after,
                 rad.poynting_balance_q()
             );
-            // Removing the image leaves the other modes' leakage only.
-            assert!(leak.residual_after < 1e-2 * leak.residual_before);
+            // The run's mode fields come already separated from the other
+            // modes and from their own negative-frequency image
+            // (lathe_solver::modefield::demix), so Faraday's law holds to a
+            // small residual before the image fit (1.7e-2 without the
+            // separation), and the fit must only lower it.
+            assert!(leak.residual_before < 1e-3, "{}", leak.residual_before);
+            assert!(leak.residual_after <= leak.residual_before);
             let r = lathe::radiation::figures(&rad, md, Some(ZWall::Pec), &opts);
             check_dipole(&r, 1.5, te_m1, "sphere in free space");
             // Independence of the energy sphere (solver/src/farfield/energy.rs).
