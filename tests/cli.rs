@@ -154,3 +154,161 @@ fn empty_band_is_a_failed_run_with_exit_1() {
     assert_eq!(code, 1, "{err}");
     assert!(err.contains("no mode found"), "{err}");
 }
+
+/// A small open scenario of our own (ε_r 20.5 puck, radius 3.05 mm, on an
+/// infinite ground plane, m = 1) that runs in about a second at a coarse
+/// cell.
+const SMALL_DRA: &str = r#"
+[region]
+radius = 9.0
+z_min = 0.0
+z_max = 8.0
+cell = 0.3
+[boundary]
+outer = "pml"
+bottom = "pec"
+top = "pml"
+[[body]]
+shape = "cylinder"
+radius = 3.05
+height = 2.6
+base = 0.0
+eps_r = 20.5
+[search]
+m = [1]
+f_min = 8.0
+f_max = 14.0
+"#;
+
+fn temp_dir(name: &str) -> std::path::PathBuf {
+    let d = std::env::temp_dir().join(format!("lathe-cli-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+#[test]
+fn results_folder_holds_table_json_csv_fields_and_pictures() {
+    let dir = temp_dir("out");
+    let file = dir.join("dra.toml");
+    std::fs::write(&file, SMALL_DRA).unwrap();
+    let res = dir.join("results");
+    let (code, out, err) = lathe(&[
+        "modes",
+        file.to_str().unwrap(),
+        "--out",
+        res.to_str().unwrap(),
+        "--quiet",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("HEM11δ"), "{out}");
+    assert!(out.contains("D (dBi)"), "radiation table: {out}");
+    let doc: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(res.join("modes.json")).unwrap()).unwrap();
+    let hem = doc["modes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["label"] == "HEM11δ")
+        .expect("HEM11δ in the JSON");
+    // An open structure's modes carry their radiation figures; a broadside
+    // mode over an infinite ground has a few dBi (a dipole over ground gives
+    // 4.77 dBi: physics.md §4) and a bandwidth that is a fraction.
+    let d = hem["directivity_dbi"].as_f64().unwrap();
+    assert!(d > 3.0 && d < 8.0, "D = {d}");
+    let bw = hem["bandwidth_vswr2"].as_f64().unwrap();
+    assert!(bw > 0.0 && bw < 1.0, "bw = {bw}");
+    assert!(hem["q_energy"].is_number(), "{hem}");
+    let csv = std::fs::read_to_string(res.join("modes.csv")).unwrap();
+    assert!(csv.starts_with("index,m,label,freq_ghz"), "{csv}");
+    assert!(csv.lines().count() >= 2);
+    let h5 = std::fs::read(res.join("fields.h5")).unwrap();
+    assert_eq!(&h5[..8], b"\x89HDF\r\n\x1a\n", "HDF5 signature");
+    let pictures: Vec<_> = std::fs::read_dir(res.join("plots"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(
+        pictures.iter().any(|p| p.starts_with("spectrum_m1")),
+        "{pictures:?}"
+    );
+    assert!(
+        pictures.iter().any(|p| p.contains("HEM11d")),
+        "{pictures:?}"
+    );
+}
+
+#[test]
+fn pattern_writes_cuts_figures_and_charts_and_refuses_closed_structures() {
+    let dir = temp_dir("pattern");
+    let file = dir.join("dra.toml");
+    std::fs::write(&file, SMALL_DRA).unwrap();
+    let out_dir = dir.join("patterns");
+    let (code, out, err) = lathe(&[
+        "pattern",
+        file.to_str().unwrap(),
+        "--mode",
+        "HEM11d",
+        "--out",
+        out_dir.to_str().unwrap(),
+        "--step",
+        "2",
+        "--quiet",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("HEM11δ"), "{out}");
+    let names: Vec<String> = std::fs::read_dir(&out_dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    for suffix in [
+        "cuts.csv",
+        "pattern.json",
+        "e_plane.png",
+        "h_plane.png",
+        "map.png",
+    ] {
+        assert!(
+            names.iter().any(|n| n.ends_with(suffix)),
+            "{suffix}: {names:?}"
+        );
+    }
+    let (code, _, err) = lathe(&["pattern", "examples/filter_puck.toml", "--quiet"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("closed"), "{err}");
+    let (code, _, err) = lathe(&[
+        "pattern",
+        file.to_str().unwrap(),
+        "--mode",
+        "TE07δ",
+        "--quiet",
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("--mode TE07δ") && err.contains("HEM11δ"),
+        "{err}"
+    );
+}
+
+#[test]
+fn check_prints_memory_and_run_time_and_the_cap_refuses_big_runs() {
+    let (code, out, err) = lathe(&["check", "examples/filter_puck.toml"]);
+    assert_eq!(code, 0, "{err}");
+    for key in ["memory", "run time", "cell updates", "time step"] {
+        assert!(out.contains(key), "plan lacks {key}: {out}");
+    }
+    let (code, _, err) = lathe(&[
+        "modes",
+        "examples/filter_puck.toml",
+        "--max-memory",
+        "2M",
+        "--quiet",
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--max-memory"), "{err}");
+    let (code, _, err) = lathe(&["modes", "examples/filter_puck.toml", "--max-memory", "lots"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("lots"), "{err}");
+    let (code, _, err) = lathe(&["modes", "examples/filter_puck.toml", "--fields", "-"]);
+    assert_eq!(code, 2, "{err}");
+}

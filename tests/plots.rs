@@ -367,7 +367,13 @@ fn a_half_study_is_unfolded_about_its_plane() {
     let d = fresh_dir("half");
     let (s, study) = open();
     assert_eq!(study.runs.len(), 2, "the isolated puck is solved as halves");
-    for run in 0..2 {
+    // In this band only the PMC half (TE01δ) has a mode; the PEC half
+    // couples to nothing and reports nothing (its signals are round-off).
+    let with_modes: Vec<usize> = (0..2)
+        .filter(|&r| !study.runs[r].output.modes.is_empty())
+        .collect();
+    assert!(!with_modes.is_empty());
+    for run in with_modes {
         let scene = ModeScene::from_study(study, run, 0, &s.bodies).unwrap();
         assert!(scene.plane.is_some());
         let opts = MapOptions {
