@@ -1,14 +1,20 @@
 //! **lathe** computes the resonances — frequency and Q — of rotationally
 //! symmetric electromagnetic structures: dielectric resonators in metal
-//! enclosures, cavities, and (in later releases) open resonators and
-//! antennas. For each azimuthal order m the 3D problem is a 2D problem in
-//! (r, z), solved by body-of-revolution FDTD; frequencies and Q come from
-//! harmonic inversion of the ring-down.
+//! enclosures, cavities, isolated resonators, and dielectric-resonator
+//! antennas on ground planes. For each azimuthal order m the 3D problem is
+//! a 2D problem in (r, z), solved by body-of-revolution FDTD; frequencies
+//! and Q come from harmonic inversion of the ring-down, each mode's field
+//! from a running transform, and for open structures its radiation
+//! (directivity, cuts, Q from energy and power) from a near-to-far-field
+//! transformation.
 //!
-//! This crate is the facade: it re-exports the geometry crate
-//! ([`mesh`]) and the solver ([`solver`]), and adds the scenario reader
-//! ([`scenario`]) and result output ([`output`]) used by the `lathe`
-//! command.
+//! This crate is the facade: it re-exports the geometry crate ([`mesh`])
+//! and the solver ([`solver`]), and adds the scenario reader
+//! ([`scenario`]), studies over symmetry halves ([`study`]), result output
+//! ([`output`], [`fieldfile`], [`plots`]), radiation ([`radiation`]),
+//! dielectric loss ([`loss`]) and the rest of what the `lathe` command
+//! uses. `examples/api.rs` builds a scenario in code instead of parsing
+//! one, and reads a mode's field.
 //!
 //! ```
 //! use lathe::scenario::Scenario;
