@@ -9,7 +9,6 @@
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
 use crate::fpu::FlushSubnormals;
-use crate::kernel::{update_e, update_h};
 use crate::plan::Problem;
 use crate::pml::Pml;
 use std::time::Instant;
@@ -32,16 +31,7 @@ pub fn step_rate(problem: &Problem, m: u32, dt: f64, min_seconds: f64) -> f64 {
         *x = 1e-3 * ((k % 97) as f64);
     }
     let mut pml = Pml::new(g, &problem.walls, dt);
-    let mut step = |f: &mut Fields| {
-        update_h(f, &coeffs);
-        if let Some(p) = pml.as_mut() {
-            p.correct_h(f, &coeffs);
-        }
-        update_e(f, &coeffs);
-        if let Some(p) = pml.as_mut() {
-            p.correct_e(f, &coeffs);
-        }
-    };
+    let mut step = |f: &mut Fields| crate::run::leapfrog_step(f, &coeffs, &mut pml);
     step(&mut f);
     let start = Instant::now();
     let mut steps = 0u64;

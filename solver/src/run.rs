@@ -207,16 +207,7 @@ pub fn run_with(
         }
         Ok(e)
     };
-    let mut step_once = |f: &mut Fields| {
-        update_h(f, &coeffs);
-        if let Some(p) = pml.as_mut() {
-            p.correct_h(f, &coeffs);
-        }
-        update_e(f, &coeffs);
-        if let Some(p) = pml.as_mut() {
-            p.correct_e(f, &coeffs);
-        }
-    };
+    let mut step_once = |f: &mut Fields| leapfrog_step(f, &coeffs, &mut pml);
     let mut peak_energy: f64 = 0.0;
     // Cell updates between two progress reports.
     let chunk = 64 * g.cells() as u64;
@@ -435,6 +426,19 @@ pub fn run_with(
         grid: g.clone(),
         walls: problem.walls,
     })
+}
+
+/// One full leapfrog step: H from E (Faraday), the absorber's H
+/// correction, E from H (Ampère), the absorber's E correction.
+pub(crate) fn leapfrog_step(f: &mut Fields, coeffs: &Coefficients, pml: &mut Option<Pml>) {
+    update_h(f, coeffs);
+    if let Some(p) = pml.as_mut() {
+        p.correct_h(f, coeffs);
+    }
+    update_e(f, coeffs);
+    if let Some(p) = pml.as_mut() {
+        p.correct_e(f, coeffs);
+    }
 }
 
 /// Poles whose RMS is below this fraction of the run's largest probe value
