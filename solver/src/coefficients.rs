@@ -2,6 +2,7 @@
 //! computed once from the grid, the materials, the walls, m and Δt.
 use crate::boundary::{Walls, ZWall};
 use crate::consts::{EPS0, MU0};
+use crate::kernel::{curl_r, curl_z, HFields};
 use lathe_mesh::{Component, MaterialMap};
 
 /// Per-node and per-row factors of the leapfrog update (see [`crate::kernel`]).
@@ -137,12 +138,14 @@ impl Coefficients {
         for v in [&mut c.cb_er, &mut c.cb_ephi, &mut c.cb_ez] {
             v.iter_mut().for_each(|x| *x *= s);
         }
-        if let Some(cp) = c.coupling.as_mut() {
-            for list in [&mut cp.er, &mut cp.ez] {
+        if let Some(cp) = c.coupling.take() {
+            let (mut er, mut ez) = (cp.er, cp.ez);
+            for list in [&mut er, &mut ez] {
                 for (_, taps) in list.iter_mut() {
                     taps.iter_mut().for_each(|t| t.1 *= s);
                 }
             }
+            c.coupling = Some(Coupling::indexed(er, ez, c.nr, c.nz));
         }
         c
     }
@@ -171,12 +174,69 @@ impl Coefficients {
 /// symmetric in the energy inner product, which keeps the scheme's modes
 /// real (a stability requirement for anisotropic FDTD; Werner & Cary, J.
 /// Comput. Phys. 226, 2007, make the same point).
+///
+/// The kernel applies the coupling row by row, from an index built with
+/// the lists (node rows and the (i, j) of every tap, so that no flat index
+/// is divided while stepping); the lists are therefore read-only.
 #[derive(Debug, Clone)]
 pub struct Coupling {
     /// Per E_r node: its flat index and (E_z index, coefficient) taps.
     pub er: Vec<(usize, Vec<(usize, f64)>)>,
     /// Per E_z node: its flat index and (E_r index, coefficient) taps.
     pub ez: Vec<(usize, Vec<(usize, f64)>)>,
+    index: CouplingIndex,
+}
+
+/// [`Coupling`] by grid row: for the nodes of row i,
+/// `nodes[row[i]..row[i + 1]]` holds (column j, taps range), and each tap
+/// is (i, j) of the node it reads and its coefficient.
+#[derive(Debug, Clone, Default)]
+struct RowIndex {
+    row: Vec<usize>,
+    nodes: Vec<(usize, usize, usize)>,
+    taps: Vec<(usize, usize, f64)>,
+}
+
+impl RowIndex {
+    /// The index of `list` for nodes in rows of `node_len` entries (rows
+    /// 0..rows) reading nodes in rows of `tap_len` entries.
+    fn new(
+        list: &[(usize, Vec<(usize, f64)>)],
+        rows: usize,
+        node_len: usize,
+        tap_len: usize,
+    ) -> RowIndex {
+        let mut ix = RowIndex {
+            row: vec![0; rows + 1],
+            ..Default::default()
+        };
+        for (l, taps) in list {
+            let start = ix.taps.len();
+            ix.taps
+                .extend(taps.iter().map(|&(k, w)| (k / tap_len, k % tap_len, w)));
+            ix.nodes.push((l % node_len, start, ix.taps.len()));
+            ix.row[l / node_len + 1] += 1;
+        }
+        for i in 0..rows {
+            ix.row[i + 1] += ix.row[i];
+        }
+        ix
+    }
+
+    /// Nodes of row `i`.
+    #[inline]
+    fn of_row(&self, i: usize) -> &[(usize, usize, usize)] {
+        match self.row.get(i + 1) {
+            Some(&end) => &self.nodes[self.row[i]..end],
+            None => &[],
+        }
+    }
+}
+
+#[derive(Debug, Clone, Default)]
+struct CouplingIndex {
+    er: RowIndex,
+    ez: RowIndex,
 }
 
 impl Coupling {
@@ -249,6 +309,50 @@ impl Coupling {
             }
         }
         ez.extend(ez_taps);
-        Some(Coupling { er, ez })
+        Some(Coupling::indexed(er, ez, nr, nz))
+    }
+
+    /// The coupling of these lists (sorted by node, as [`Coupling::new`]
+    /// makes them), with its row index.
+    fn indexed(
+        er: Vec<(usize, Vec<(usize, f64)>)>,
+        ez: Vec<(usize, Vec<(usize, f64)>)>,
+        nr: usize,
+        nz: usize,
+    ) -> Coupling {
+        let index = CouplingIndex {
+            er: RowIndex::new(&er, nr, nz + 1, nz),
+            ez: RowIndex::new(&ez, nr + 1, nz, nz + 1),
+        };
+        Coupling { er, ez, index }
+    }
+
+    /// Adds the coupling to the E_r and E_z nodes of row `i` (after their
+    /// bulk update): Δe_r(l) = Σ_k M_lk C_z(k), Δe_z(k) = Σ_l M_kl C_r(l),
+    /// C the curl of H at the tap ([`crate::kernel`]).
+    #[inline]
+    pub(crate) fn apply_row(
+        &self,
+        i: usize,
+        c: &Coefficients,
+        h: &HFields,
+        er: &mut [f64],
+        ez: &mut [f64],
+    ) {
+        let ix = &self.index;
+        for &(j, a, b) in ix.er.of_row(i) {
+            let s: f64 = ix.er.taps[a..b]
+                .iter()
+                .map(|&(ki, kj, w)| w * curl_z(h, c, ki, kj))
+                .sum();
+            er[j] += s;
+        }
+        for &(j, a, b) in ix.ez.of_row(i) {
+            let s: f64 = ix.ez.taps[a..b]
+                .iter()
+                .map(|&(li, lj, w)| w * curl_r(h, c, li, lj))
+                .sum();
+            ez[j] += s;
+        }
     }
 }
