@@ -333,7 +333,7 @@ pub(crate) fn e_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml
         if bulk {
             e_bulk(c, &h, i, er, ephi.as_deref_mut(), ez);
             if let Some(cp) = &c.coupling {
-                cp.apply_row(i, c, &h, er, ez);
+                cp.apply_row(i, &h, er, ez);
             }
         }
         if let Some(p) = params {
@@ -464,36 +464,6 @@ fn e_bulk(
         // Ampère's law on the annulus r_{i−½} … r_{i+½}
         ez[j] += cbz[j] * (a * q1[j] - b * p0[j] - mri * r1[j]);
     }
-}
-
-/// (∇×H)_z at E_z node (i, j) as in [`update_e`] (without the 1/ε
-/// factor).
-#[inline]
-pub(crate) fn curl_z(h: &HFields, c: &Coefficients, i: usize, j: usize) -> f64 {
-    let nz = c.nz;
-    if i == 0 {
-        return 4.0 * c.inv_dr * h.hphi[j];
-    }
-    c.ez_out[i] * h.hphi[i * nz + j]
-        - c.ez_in[i] * h.hphi[(i - 1) * nz + j]
-        - c.m_over_r_int[i] * h.hr[i * nz + j]
-}
-
-/// (∇×H)_r at E_r node (i, j) as in [`update_e`], with the PMC images.
-#[inline]
-pub(crate) fn curl_r(h: &HFields, c: &Coefficients, i: usize, j: usize) -> f64 {
-    let (nz, nj1) = (c.nz, c.nz + 1);
-    let above = if j < nz {
-        h.hphi[i * nz + j]
-    } else {
-        image(c.top) * h.hphi[i * nz + nz - 1]
-    };
-    let below = if j > 0 {
-        h.hphi[i * nz + j - 1]
-    } else {
-        image(c.bottom) * h.hphi[i * nz]
-    };
-    c.m_over_r_half[i] * h.hz[i * nj1 + j] - (above - below) * c.inv_dz
 }
 
 /// Writes the derived axis values of order m = 1 (e_φ(0) = −e_r(0),

@@ -502,32 +502,18 @@ impl PmlParams {
                 let (lo, hi, off) = (s.lo, s.hi, s.off);
                 let n = hi - lo;
                 let (b, a) = (&self.zb_half[lo..hi], &self.za_half[lo..hi]);
-                // μ ∂t h_r ∋ ∂z e_φ, rows 1..nr.
-                if let Some(hr) = hr.as_deref_mut() {
-                    let (w0, w1) = (&ep[lo..hi], &ep[lo + 1..hi + 1]);
-                    diff::<f64, _, false>(
-                        &mut hr[lo..hi],
-                        &mut p_hr[off..off + n],
-                        w0,
-                        w1,
-                        idz,
-                        b,
-                        a,
-                        ch,
-                    );
-                }
-                // μ ∂t h_φ ∋ −∂z e_r.
+                // μ ∂t h_φ ∋ −∂z e_r, and μ ∂t h_r ∋ ∂z e_φ (rows 1..nr).
                 let (w0, w1) = (&er[lo..hi], &er[lo + 1..hi + 1]);
-                diff::<f64, _, true>(
-                    &mut hphi[lo..hi],
-                    &mut p_hp[off..off + n],
-                    w0,
-                    w1,
-                    idz,
-                    b,
-                    a,
-                    ch,
-                );
+                let (u, pu) = (&mut hphi[lo..hi], &mut p_hp[off..off + n]);
+                match hr.as_deref_mut() {
+                    Some(hr) => {
+                        let (v0, v1) = (&ep[lo..hi], &ep[lo + 1..hi + 1]);
+                        let (v, pv) = (&mut hr[lo..hi], &mut p_hr[off..off + n]);
+                        let w = ((w0, w1), (v0, v1));
+                        diff2::<f64, true, false>(u, pu, v, pv, w.0, w.1, (ch, ch), idz, b, a);
+                    }
+                    None => diff::<f64, _, true>(u, pu, w0, w1, idz, b, a, ch),
+                }
             }
         }
         let Some(l) = &self.radial else { return };
@@ -551,20 +537,23 @@ impl PmlParams {
             diff::<f64, _, false>(&mut hphi[..nz], p, ez, ez1, idr, b, a, ch);
         }
         // μ ∂t h_z ∋ −∂r e_φ: (r̂/r̃)·(1/s_P)·X − X, two recursions in
-        // cascade.
+        // cascade; then μ ∂t h_z ∋ −(e_φ avg + m e_r)/r, stretched by 1/s̄.
         let (br, ar) = l.ratio_half[i];
-        if a != 0.0 || ar != 0.0 {
-            let pd = psi.hz_d.row(i).expect("a radial row");
-            let pq = psi.hz_ratio.row(i).expect("a radial row");
-            cascade::<f64, true>(&mut hz[..nj1], pd, pq, ep, ep1, idr, (b, a), (br, ar), ch);
-        }
-        // μ ∂t h_z ∋ −(e_φ avg + m e_r)/r, stretched by 1/s̄.
         let (bb, ab) = l.bar_half[i];
-        if ab != 0.0 {
-            let r = (i as f64 + 0.5) / idr;
-            let p = psi.hz_bar.row(i).expect("a radial row");
-            let t = (c.m_over_r_half[i], er);
-            bar::<f64, true, false>(&mut hz[..nj1], p, ep, ep1, r, t, (bb, ab), ch);
+        let r = (i as f64 + 0.5) / idr;
+        let t = (c.m_over_r_half[i], er);
+        let hz = &mut hz[..nj1];
+        let pd = psi.hz_d.row(i).expect("a radial row");
+        let pq = psi.hz_ratio.row(i).expect("a radial row");
+        let pb = psi.hz_bar.row(i).expect("a radial row");
+        match (a != 0.0 || ar != 0.0, ab != 0.0) {
+            (true, true) => {
+                let f = ((b, a), (br, ar), (bb, ab));
+                cascade_bar::<f64, true, false>(hz, pd, pq, pb, ep, ep1, idr, r, t, f, ch)
+            }
+            (true, false) => cascade::<f64, true>(hz, pd, pq, ep, ep1, idr, (b, a), (br, ar), ch),
+            (false, true) => bar::<f64, true, false>(hz, pb, ep, ep1, r, t, (bb, ab), ch),
+            (false, false) => {}
         }
     }
 
@@ -597,33 +586,18 @@ impl PmlParams {
                 let (lo, hi, off) = (s.lo, s.hi, s.off);
                 let n = hi - lo;
                 let (b, a) = (&self.zb_int[lo..hi], &self.za_int[lo..hi]);
-                // ε ∂t e_r ∋ −∂z h_φ.
+                // ε ∂t e_r ∋ −∂z h_φ, and ε ∂t e_φ ∋ ∂z h_r (rows 1..nr).
                 let (w0, w1) = (&hp[lo - 1..hi - 1], &hp[lo..hi]);
-                let cb = &cbr[lo..hi];
-                diff::<&[f64], _, true>(
-                    &mut er[lo..hi],
-                    &mut p_er[off..off + n],
-                    w0,
-                    w1,
-                    idz,
-                    b,
-                    a,
-                    cb,
-                );
-                // ε ∂t e_φ ∋ ∂z h_r, rows 1..nr.
-                if let Some(ep) = ephi.as_deref_mut() {
-                    let (w0, w1) = (&hr[lo - 1..hi - 1], &hr[lo..hi]);
-                    let cb = &cbp[lo..hi];
-                    diff::<&[f64], _, false>(
-                        &mut ep[lo..hi],
-                        &mut p_ep[off..off + n],
-                        w0,
-                        w1,
-                        idz,
-                        b,
-                        a,
-                        cb,
-                    );
+                let (u, pu, cb) = (&mut er[lo..hi], &mut p_er[off..off + n], &cbr[lo..hi]);
+                match ephi.as_deref_mut() {
+                    Some(ep) => {
+                        let (v0, v1) = (&hr[lo - 1..hi - 1], &hr[lo..hi]);
+                        let (v, pv) = (&mut ep[lo..hi], &mut p_ep[off..off + n]);
+                        let w = ((w0, w1), (v0, v1));
+                        let cbs = (cb, &cbp[lo..hi]);
+                        diff2::<&[f64], true, false>(u, pu, v, pv, w.0, w.1, cbs, idz, b, a);
+                    }
+                    None => diff::<&[f64], _, true>(u, pu, w0, w1, idz, b, a, cb),
                 }
             }
         }
@@ -649,28 +623,26 @@ impl PmlParams {
         let hp0 = &h.hphi[(i - 1) * nz..i * nz];
         let cbz = &c.cb_ez[i * nz..(i + 1) * nz];
         // ε ∂t e_z ∋ (1/r) ∂r(r h_φ): (r̄/r̃)·(1/s_D)·X − X, two recursions
-        // in cascade.
+        // in cascade; then ε ∂t e_z ∋ h_φ avg / r − (m/r) h_r, stretched by
+        // 1/s̄.
         let (br, ar) = l.ratio[i];
-        if a != 0.0 || ar != 0.0 {
-            let pd = psi.ez_d.row(i).expect("a radial row");
-            let pq = psi.ez_ratio.row(i).expect("a radial row");
-            cascade::<&[f64], false>(&mut ez[..nz], pd, pq, hp0, hp, idr, (b, a), (br, ar), cbz);
-        }
-        // ε ∂t e_z ∋ h_φ avg / r − (m/r) h_r, stretched by 1/s̄.
         let (bb, ab) = l.bar_int[i];
-        if ab != 0.0 {
-            let r = i as f64 / idr;
-            let p = psi.ez_bar.row(i).expect("a radial row");
-            bar::<&[f64], false, true>(
-                &mut ez[..nz],
-                p,
-                hp0,
-                hp,
-                r,
-                (c.m_over_r_int[i], hr),
-                (bb, ab),
-                cbz,
-            );
+        let r = i as f64 / idr;
+        let t = (c.m_over_r_int[i], hr);
+        let ez = &mut ez[..nz];
+        let pd = psi.ez_d.row(i).expect("a radial row");
+        let pq = psi.ez_ratio.row(i).expect("a radial row");
+        let pb = psi.ez_bar.row(i).expect("a radial row");
+        match (a != 0.0 || ar != 0.0, ab != 0.0) {
+            (true, true) => {
+                let f = ((b, a), (br, ar), (bb, ab));
+                cascade_bar::<&[f64], false, true>(ez, pd, pq, pb, hp0, hp, idr, r, t, f, cbz)
+            }
+            (true, false) => {
+                cascade::<&[f64], false>(ez, pd, pq, hp0, hp, idr, (b, a), (br, ar), cbz)
+            }
+            (false, true) => bar::<&[f64], false, true>(ez, pb, hp0, hp, r, t, (bb, ab), cbz),
+            (false, false) => {}
         }
     }
 }
@@ -742,6 +714,90 @@ fn diff<S: ByEntry, F: ByEntry, const NEG: bool>(
         } else {
             u[j] += s.at(j) * p;
         }
+    }
+}
+
+/// [`diff`] on two fields at once over the same z-layer span (same b, a):
+/// u ∓ s·ψ_u with X_u = (w1 − w0)·k, then v ∓ t·ψ_v with X_v = (v1 − v0)·k
+/// (− when `NEGU`, `NEGV`).
+#[allow(clippy::too_many_arguments)]
+#[inline(never)]
+fn diff2<S: ByEntry, const NEGU: bool, const NEGV: bool>(
+    u: &mut [f64],
+    pu: &mut [f64],
+    v: &mut [f64],
+    pv: &mut [f64],
+    (w0, w1): (&[f64], &[f64]),
+    (v0, v1): (&[f64], &[f64]),
+    (s, t): (S, S),
+    k: f64,
+    b: &[f64],
+    a: &[f64],
+) {
+    let n = u.len();
+    let (pu, w0, w1, s) = (&mut pu[..n], &w0[..n], &w1[..n], s.fit(n));
+    let (v, pv, v0, v1, t) = (&mut v[..n], &mut pv[..n], &v0[..n], &v1[..n], t.fit(n));
+    let (b, a) = (&b[..n], &a[..n]);
+    for j in 0..n {
+        let x = (w1[j] - w0[j]) * k;
+        let p = advance(&mut pu[j], b[j], a[j], x);
+        if NEGU {
+            u[j] -= s.at(j) * p;
+        } else {
+            u[j] += s.at(j) * p;
+        }
+        let x = (v1[j] - v0[j]) * k;
+        let p = advance(&mut pv[j], b[j], a[j], x);
+        if NEGV {
+            v[j] -= t.at(j) * p;
+        } else {
+            v[j] += t.at(j) * p;
+        }
+    }
+}
+
+/// [`cascade`] then [`bar`] on the same field in one pass (the order of
+/// each entry's two terms is kept).
+#[allow(clippy::too_many_arguments, clippy::type_complexity)]
+#[inline(never)]
+fn cascade_bar<S: ByEntry, const NEG: bool, const NEGT: bool>(
+    u: &mut [f64],
+    pd: &mut [f64],
+    pq: &mut [f64],
+    pb: &mut [f64],
+    w0: &[f64],
+    w1: &[f64],
+    k: f64,
+    r: f64,
+    (mr, v): (f64, &[f64]),
+    ((bd, ad), (bq, aq), (bb, ab)): ((f64, f64), (f64, f64), (f64, f64)),
+    s: S,
+) {
+    let n = u.len();
+    let (pd, pq, pb) = (&mut pd[..n], &mut pq[..n], &mut pb[..n]);
+    let (w0, w1, v, s) = (&w0[..n], &w1[..n], &v[..n], s.fit(n));
+    for j in 0..n {
+        let x = (w1[j] - w0[j]) * k;
+        let y = x + advance(&mut pd[j], bd, ad, x);
+        let z = y + advance(&mut pq[j], bq, aq, y);
+        let mut e = u[j];
+        if NEG {
+            e -= s.at(j) * (z - x);
+        } else {
+            e += s.at(j) * (z - x);
+        }
+        let x = if NEGT {
+            0.5 * (w1[j] + w0[j]) / r - mr * v[j]
+        } else {
+            0.5 * (w1[j] + w0[j]) / r + mr * v[j]
+        };
+        let p = advance(&mut pb[j], bb, ab, x);
+        if NEG {
+            e -= s.at(j) * p;
+        } else {
+            e += s.at(j) * p;
+        }
+        u[j] = e;
     }
 }
 
