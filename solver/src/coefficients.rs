@@ -2,6 +2,7 @@
 //! computed once from the grid, the materials, the walls, m and Δt.
 use crate::boundary::{Walls, ZWall};
 use crate::consts::{EPS0, MU0};
+use crate::kernel::HFields;
 use lathe_mesh::{Component, MaterialMap};
 
 /// Per-node and per-row factors of the leapfrog update (see [`crate::kernel`]).
@@ -56,7 +57,6 @@ impl Coefficients {
     pub fn new(map: &MaterialMap, walls: &Walls, m: u32, dt: f64) -> Coefficients {
         let g = &map.grid;
         let (nr, nz) = (g.nr, g.nz);
-        let mf = m as f64;
         let cb = |c: Component| -> Vec<f64> {
             let nodes = map.component(c);
             let (ni, nj) = c.shape(g);
@@ -84,8 +84,7 @@ impl Coefficients {
             }
             v
         };
-        let r_int = |i: usize| i as f64 * g.dr;
-        let r_half = |i: usize| (i as f64 + 0.5) * g.dr;
+        let rf = RadialFactors::new(g, m);
         Coefficients {
             m,
             nr,
@@ -97,6 +96,72 @@ impl Coefficients {
             cb_er: cb(Component::Er),
             cb_ephi: cb(Component::Ephi),
             cb_ez: cb(Component::Ez),
+            m_over_r_int: rf.m_over_r_int,
+            m_over_r_half: rf.m_over_r_half,
+            ez_out: rf.ez_out,
+            ez_in: rf.ez_in,
+            hz_out: rf.hz_out,
+            hz_in: rf.hz_in,
+            row_parallel: false,
+            coupling: Coupling::new(map, walls, m, dt),
+            bottom: walls.bottom,
+            top: walls.top,
+        }
+    }
+
+    /// The same coefficients for another time step (scales every Δt factor).
+    pub fn with_dt(&self, dt: f64) -> Coefficients {
+        let s = dt / self.dt;
+        let mut c = self.clone();
+        c.dt = dt;
+        c.ch *= s;
+        for v in [&mut c.cb_er, &mut c.cb_ephi, &mut c.cb_ez] {
+            v.iter_mut().for_each(|x| *x *= s);
+        }
+        if let Some(cp) = c.coupling.take() {
+            let (mut er, mut ez) = (cp.er.clone(), cp.ez.clone());
+            for list in [&mut er, &mut ez] {
+                for (_, taps) in list.iter_mut() {
+                    taps.iter_mut().for_each(|t| t.1 *= s);
+                }
+            }
+            c.coupling = Some(Coupling {
+                index: cp.index.rescaled(s),
+                er,
+                ez,
+            });
+        }
+        c
+    }
+
+    /// The E-node update factor array of component `c` (electric only).
+    pub fn cb(&self, c: Component) -> &[f64] {
+        match c {
+            Component::Er => &self.cb_er,
+            Component::Ephi => &self.cb_ephi,
+            Component::Ez => &self.cb_ez,
+            _ => panic!("expected an electric component, got {c:?}"),
+        }
+    }
+}
+
+/// The per-row factors of the radial differences and the m/r terms (see
+/// the fields of [`Coefficients`] of the same names).
+struct RadialFactors {
+    m_over_r_int: Vec<f64>,
+    m_over_r_half: Vec<f64>,
+    ez_out: Vec<f64>,
+    ez_in: Vec<f64>,
+    hz_out: Vec<f64>,
+    hz_in: Vec<f64>,
+}
+
+impl RadialFactors {
+    fn new(g: &lathe_mesh::Grid, m: u32) -> RadialFactors {
+        let (nr, mf) = (g.nr, m as f64);
+        let r_int = |i: usize| i as f64 * g.dr;
+        let r_half = |i: usize| (i as f64 + 0.5) * g.dr;
+        RadialFactors {
             m_over_r_int: (0..=nr)
                 .map(|i| if i == 0 { 0.0 } else { mf / r_int(i) })
                 .collect(),
@@ -121,39 +186,6 @@ impl Coefficients {
                 .collect(),
             hz_out: (0..nr).map(|i| r_int(i + 1) / (r_half(i) * g.dr)).collect(),
             hz_in: (0..nr).map(|i| r_int(i) / (r_half(i) * g.dr)).collect(),
-            row_parallel: false,
-            coupling: Coupling::new(map, walls, m, dt),
-            bottom: walls.bottom,
-            top: walls.top,
-        }
-    }
-
-    /// The same coefficients for another time step (scales every Δt factor).
-    pub fn with_dt(&self, dt: f64) -> Coefficients {
-        let s = dt / self.dt;
-        let mut c = self.clone();
-        c.dt = dt;
-        c.ch *= s;
-        for v in [&mut c.cb_er, &mut c.cb_ephi, &mut c.cb_ez] {
-            v.iter_mut().for_each(|x| *x *= s);
-        }
-        if let Some(cp) = c.coupling.as_mut() {
-            for list in [&mut cp.er, &mut cp.ez] {
-                for (_, taps) in list.iter_mut() {
-                    taps.iter_mut().for_each(|t| t.1 *= s);
-                }
-            }
-        }
-        c
-    }
-
-    /// The E-node update factor array of component `c` (electric only).
-    pub fn cb(&self, c: Component) -> &[f64] {
-        match c {
-            Component::Er => &self.cb_er,
-            Component::Ephi => &self.cb_ephi,
-            Component::Ez => &self.cb_ez,
-            _ => panic!("expected an electric component, got {c:?}"),
         }
     }
 }
@@ -171,12 +203,103 @@ impl Coefficients {
 /// symmetric in the energy inner product, which keeps the scheme's modes
 /// real (a stability requirement for anisotropic FDTD; Werner & Cary, J.
 /// Comput. Phys. 226, 2007, make the same point).
+///
+/// The kernel applies the coupling row by row, from an index built with
+/// the lists (node rows and the (i, j) of every tap, so that no flat index
+/// is divided while stepping); the lists are therefore read-only.
 #[derive(Debug, Clone)]
 pub struct Coupling {
     /// Per E_r node: its flat index and (E_z index, coefficient) taps.
     pub er: Vec<(usize, Vec<(usize, f64)>)>,
     /// Per E_z node: its flat index and (E_r index, coefficient) taps.
     pub ez: Vec<(usize, Vec<(usize, f64)>)>,
+    index: CouplingIndex,
+}
+
+/// (∇×H)_z at an E_z node as the kernel computes it ([`crate::kernel`]):
+/// c0·h_φ(k0) − c1·h_φ(k1) − c2·h_r(k2), or 4h_φ(½)/Δr on the m = 0 axis
+/// (c0·h_φ(k0)); with the tap's coefficient `w`.
+#[derive(Debug, Clone, Copy)]
+struct ZTap {
+    w: f64,
+    c: [f64; 3],
+    k: [usize; 3],
+    axis: bool,
+}
+
+/// (∇×H)_r at an E_r node: (m/r)·h_z(k0) − (s0·h_φ(k1) − s1·h_φ(k2))/Δz,
+/// s = 1 inside and the odd image factor across a z wall; with the tap's
+/// coefficient `w`.
+#[derive(Debug, Clone, Copy)]
+struct RTap {
+    w: f64,
+    mr: f64,
+    s: [f64; 2],
+    k: [usize; 3],
+}
+
+/// [`Coupling`] by grid row, with each tap's curl stencil resolved: the
+/// nodes of row i are `nodes[row[i]..row[i + 1]]`, each (column j, range
+/// of its taps).
+#[derive(Debug, Clone)]
+struct RowIndex<T> {
+    row: Vec<usize>,
+    nodes: Vec<(usize, usize, usize)>,
+    taps: Vec<T>,
+}
+
+impl<T> RowIndex<T> {
+    /// The index of `list` for nodes in rows 0..rows of `node_len` entries,
+    /// each tap (flat index, coefficient) resolved by `tap`.
+    fn new(
+        list: &[(usize, Vec<(usize, f64)>)],
+        rows: usize,
+        node_len: usize,
+        tap: impl Fn(usize, f64) -> T,
+    ) -> RowIndex<T> {
+        let mut ix = RowIndex {
+            row: vec![0; rows + 1],
+            nodes: Vec::new(),
+            taps: Vec::new(),
+        };
+        for (l, taps) in list {
+            let start = ix.taps.len();
+            ix.taps.extend(taps.iter().map(|&(k, w)| tap(k, w)));
+            ix.nodes.push((l % node_len, start, ix.taps.len()));
+            ix.row[l / node_len + 1] += 1;
+        }
+        for i in 0..rows {
+            ix.row[i + 1] += ix.row[i];
+        }
+        ix
+    }
+
+    /// Nodes of row `i`.
+    #[inline]
+    fn of_row(&self, i: usize) -> &[(usize, usize, usize)] {
+        match self.row.get(i + 1) {
+            Some(&end) => &self.nodes[self.row[i]..end],
+            None => &[],
+        }
+    }
+}
+
+#[derive(Debug, Clone)]
+struct CouplingIndex {
+    er: RowIndex<ZTap>,
+    ez: RowIndex<RTap>,
+    inv_dz: f64,
+}
+
+impl CouplingIndex {
+    /// The same index with every coefficient times `s` (as
+    /// [`Coefficients::with_dt`] scales the lists).
+    fn rescaled(&self, s: f64) -> CouplingIndex {
+        let mut ix = self.clone();
+        ix.er.taps.iter_mut().for_each(|t| t.w *= s);
+        ix.ez.taps.iter_mut().for_each(|t| t.w *= s);
+        ix
+    }
 }
 
 impl Coupling {
@@ -249,6 +372,101 @@ impl Coupling {
             }
         }
         ez.extend(ez_taps);
-        Some(Coupling { er, ez })
+        Some(Coupling::indexed(er, ez, g, walls, m))
+    }
+
+    /// The coupling of these lists (sorted by node, as [`Coupling::new`]
+    /// makes them), with its row index and the curl stencils of its taps.
+    fn indexed(
+        er: Vec<(usize, Vec<(usize, f64)>)>,
+        ez: Vec<(usize, Vec<(usize, f64)>)>,
+        g: &lathe_mesh::Grid,
+        walls: &Walls,
+        m: u32,
+    ) -> Coupling {
+        let (nr, nz) = (g.nr, g.nz);
+        let nj1 = nz + 1;
+        let rf = RadialFactors::new(g, m);
+        let inv_dr = 1.0 / g.dr;
+        let img = |w: ZWall| if w == ZWall::Pmc { -1.0 } else { 0.0 };
+        let z_tap = |k: usize, w: f64| {
+            let (i, j) = (k / nz, k % nz);
+            if i == 0 {
+                ZTap {
+                    w,
+                    c: [4.0 * inv_dr, 0.0, 0.0],
+                    k: [j, 0, 0],
+                    axis: true,
+                }
+            } else {
+                ZTap {
+                    w,
+                    c: [rf.ez_out[i], rf.ez_in[i], rf.m_over_r_int[i]],
+                    k: [i * nz + j, (i - 1) * nz + j, i * nz + j],
+                    axis: false,
+                }
+            }
+        };
+        let r_tap = |l: usize, w: f64| {
+            let (i, j) = (l / nj1, l % nj1);
+            let (s0, k1) = if j < nz {
+                (1.0, i * nz + j)
+            } else {
+                (img(walls.top), i * nz + nz - 1)
+            };
+            let (s1, k2) = if j > 0 {
+                (1.0, i * nz + j - 1)
+            } else {
+                (img(walls.bottom), i * nz)
+            };
+            RTap {
+                w,
+                mr: rf.m_over_r_half[i],
+                s: [s0, s1],
+                k: [l, k1, k2],
+            }
+        };
+        let index = CouplingIndex {
+            er: RowIndex::new(&er, nr, nj1, z_tap),
+            ez: RowIndex::new(&ez, nr + 1, nz, r_tap),
+            inv_dz: 1.0 / g.dz,
+        };
+        Coupling { er, ez, index }
+    }
+
+    /// Adds the coupling to the E_r and E_z nodes of row `i` (after their
+    /// bulk update): Δe_r(l) = Σ_k M_lk C_z(k), Δe_z(k) = Σ_l M_kl C_r(l),
+    /// C the curl of H at the tap, by the kernel's own arithmetic
+    /// ([`crate::kernel`]).
+    #[inline]
+    pub(crate) fn apply_row(&self, i: usize, h: &HFields, er: &mut [f64], ez: &mut [f64]) {
+        let ix = &self.index;
+        let (hr, hphi, hz) = (h.hr, h.hphi, h.hz);
+        for &(j, a, b) in ix.er.of_row(i) {
+            let s: f64 = ix.er.taps[a..b]
+                .iter()
+                .map(|t| {
+                    let curl = if t.axis {
+                        t.c[0] * hphi[t.k[0]]
+                    } else {
+                        t.c[0] * hphi[t.k[0]] - t.c[1] * hphi[t.k[1]] - t.c[2] * hr[t.k[2]]
+                    };
+                    t.w * curl
+                })
+                .sum();
+            er[j] += s;
+        }
+        let idz = ix.inv_dz;
+        for &(j, a, b) in ix.ez.of_row(i) {
+            let s: f64 = ix.ez.taps[a..b]
+                .iter()
+                .map(|t| {
+                    let above = t.s[0] * hphi[t.k[1]];
+                    let below = t.s[1] * hphi[t.k[2]];
+                    t.w * (t.mr * hz[t.k[0]] - (above - below) * idz)
+                })
+                .sum();
+            ez[j] += s;
+        }
     }
 }

@@ -12,6 +12,7 @@
 //! of a dielectric resonator live.
 use crate::coefficients::Coefficients;
 use crate::consts::ETA0;
+use crate::fields::Fields;
 use lathe_mesh::{Component, Grid, MaterialMap};
 use std::f64::consts::PI;
 
@@ -222,6 +223,27 @@ pub fn place(
             .collect();
     }
     (sources, probes)
+}
+
+/// Adds the source current `s` at every tap of `sources`: Ampère's law
+/// with a current, ε ∂t E = ∇×H − J, so E −= (Δt/ε)·w·s at each tap (w the
+/// tap's weight, Δt/ε the node's `cb`; held nodes stay at zero).
+pub fn inject(f: &mut Fields, c: &Coefficients, sources: &[Point], s: f64) {
+    for p in sources {
+        for t in &p.taps {
+            let cb = c.cb(t.component)[t.index];
+            f.get_mut(t.component)[t.index] -= cb * t.weight * s;
+        }
+    }
+}
+
+/// The sample a probe records: Σ w·u over its taps (H taps carry η0 in
+/// their weight, see [`Tap`]).
+pub fn read(f: &Fields, p: &Point) -> f64 {
+    p.taps
+        .iter()
+        .map(|t| t.weight * f.get(t.component)[t.index])
+        .sum()
 }
 
 #[cfg(test)]

@@ -42,10 +42,22 @@
 //! The off-axis H_z(½) update uses the full annulus `0 … Δr` (its inner
 //! coefficient is zero), so no axis value is needed there either.
 //!
-//! # Threads
-//! Rows are independent within each half step, so large grids are updated
-//! row-parallel (rayon) when [`Coefficients::row_parallel`] is set; every
-//! entry is computed by the same expression on any thread, so results are
+//! # Rows, threads and the absorber
+//! Within each half step every row depends only on the other field, so a
+//! half step is a loop over rows `i` that updates all three components of
+//! the row ([`update_h`], [`update_e`]): the row's neighbours stay in the
+//! fastest cache for the three of them, and every inner loop over `j` runs
+//! over contiguous slices of checked length, which the compiler vectorises.
+//! [`step`] adds the absorber's corrections ([`crate::pml`]) to each row
+//! right after its bulk update, while the row is still in cache; every
+//! entry takes exactly the operations of the bulk update followed by
+//! [`Pml::correct_h`] / [`Pml::correct_e`], in the same order, so the two
+//! ways give identical bits.
+//!
+//! Large grids are updated row-parallel (rayon) when
+//! [`Coefficients::row_parallel`] is set: the rows are split in contiguous
+//! blocks by recursive halving, each block updated by one task. Every entry
+//! is computed by the same expression on any thread, so results are
 //! bitwise identical for any thread count.
 //!
 //! # Walls
@@ -55,87 +67,196 @@
 use crate::boundary::ZWall;
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
-use rayon::prelude::*;
+use crate::pml::{EPsi, HPsi, Pml, PmlParams};
 
-/// Applies `f(i, row)` to rows `lo..hi` of `data` (rows of `len` entries),
-/// in parallel when `par` is set. Each entry is computed by the same
-/// arithmetic whichever thread does it, so results do not depend on the
-/// thread count.
-fn rows<F>(data: &mut [f64], len: usize, lo: usize, hi: usize, par: bool, f: F)
+/// Rows `first..` of a row-major array with rows of `len` entries, as one
+/// mutable slice that can be split by row (for the row-parallel update).
+pub(crate) struct Rows<'a> {
+    data: &'a mut [f64],
+    len: usize,
+    first: usize,
+}
+
+impl<'a> Rows<'a> {
+    /// `data` holding rows `first..` of `len` entries each.
+    pub(crate) fn new(data: &'a mut [f64], len: usize, first: usize) -> Rows<'a> {
+        Rows { data, len, first }
+    }
+
+    /// No rows at all.
+    pub(crate) fn none() -> Rows<'a> {
+        Rows {
+            data: Default::default(),
+            len: 0,
+            first: 0,
+        }
+    }
+
+    /// The rows before row `i` and the rows from `i` on.
+    pub(crate) fn split_at(self, i: usize) -> (Rows<'a>, Rows<'a>) {
+        let (len, first) = (self.len, self.first);
+        let held = if len == 0 { 0 } else { self.data.len() / len };
+        let k = i.saturating_sub(first).min(held);
+        let (a, b) = self.data.split_at_mut(k * len);
+        (
+            Rows {
+                data: a,
+                len,
+                first,
+            },
+            Rows {
+                data: b,
+                len,
+                first: first + k,
+            },
+        )
+    }
+
+    /// Row `i`, if these rows hold it.
+    #[inline]
+    pub(crate) fn row(&mut self, i: usize) -> Option<&mut [f64]> {
+        if self.len == 0 || i < self.first {
+            return None;
+        }
+        let k = i - self.first;
+        self.data.get_mut(k * self.len..(k + 1) * self.len)
+    }
+}
+
+/// Mutable state of one half step that splits by row.
+trait SplitRows: Sized + Send {
+    fn split_at(self, i: usize) -> (Self, Self);
+}
+
+/// Runs `body(i, &mut views)` for every row `i` in `lo..hi`: in order on
+/// this thread, or, when `par` is set, in blocks of at most `grain` rows by
+/// recursive halving with `rayon::join`.
+fn for_rows<V, F>(lo: usize, hi: usize, mut views: V, par: bool, grain: usize, body: &F)
 where
-    F: Fn(usize, &mut [f64]) + Sync + Send,
+    V: SplitRows,
+    F: Fn(usize, &mut V) + Sync,
 {
-    if hi <= lo {
+    if !par || hi - lo <= grain {
+        for i in lo..hi {
+            body(i, &mut views);
+        }
         return;
     }
-    let sub = &mut data[lo * len..hi * len];
-    if par {
-        sub.par_chunks_mut(len)
-            .with_min_len(4)
-            .enumerate()
-            .for_each(|(k, row)| f(lo + k, row));
-    } else {
-        sub.chunks_mut(len)
-            .enumerate()
-            .for_each(|(k, row)| f(lo + k, row));
+    let mid = lo + (hi - lo) / 2;
+    let (a, b) = views.split_at(mid);
+    rayon::join(
+        || for_rows(lo, mid, a, par, grain, body),
+        || for_rows(mid, hi, b, par, grain, body),
+    );
+}
+
+/// Rows per parallel block: about four blocks per thread, at least 4 rows.
+fn grain(rows: usize) -> usize {
+    rows.div_ceil(4 * rayon::current_num_threads()).max(4)
+}
+
+/// The magnetic rows of one half step and the absorber's auxiliary fields
+/// that go with them.
+struct HViews<'a> {
+    hr: Rows<'a>,
+    hphi: Rows<'a>,
+    hz: Rows<'a>,
+    psi: HPsi<'a>,
+}
+
+impl SplitRows for HViews<'_> {
+    fn split_at(self, i: usize) -> (Self, Self) {
+        let (hr0, hr1) = self.hr.split_at(i);
+        let (hp0, hp1) = self.hphi.split_at(i);
+        let (hz0, hz1) = self.hz.split_at(i);
+        let (p0, p1) = self.psi.split_at(i);
+        (
+            HViews {
+                hr: hr0,
+                hphi: hp0,
+                hz: hz0,
+                psi: p0,
+            },
+            HViews {
+                hr: hr1,
+                hphi: hp1,
+                hz: hz1,
+                psi: p1,
+            },
+        )
     }
+}
+
+/// The electric rows of one half step and their auxiliary fields.
+struct EViews<'a> {
+    er: Rows<'a>,
+    ephi: Rows<'a>,
+    ez: Rows<'a>,
+    psi: EPsi<'a>,
+}
+
+impl SplitRows for EViews<'_> {
+    fn split_at(self, i: usize) -> (Self, Self) {
+        let (er0, er1) = self.er.split_at(i);
+        let (ep0, ep1) = self.ephi.split_at(i);
+        let (ez0, ez1) = self.ez.split_at(i);
+        let (p0, p1) = self.psi.split_at(i);
+        (
+            EViews {
+                er: er0,
+                ephi: ep0,
+                ez: ez0,
+                psi: p0,
+            },
+            EViews {
+                er: er1,
+                ephi: ep1,
+                ez: ez1,
+                psi: p1,
+            },
+        )
+    }
+}
+
+/// The electric field, read-only, for the H half step.
+pub(crate) struct EFields<'a> {
+    pub er: &'a [f64],
+    pub ephi: &'a [f64],
+    pub ez: &'a [f64],
+}
+
+/// The magnetic field, read-only, for the E half step.
+pub(crate) struct HFields<'a> {
+    pub hr: &'a [f64],
+    pub hphi: &'a [f64],
+    pub hz: &'a [f64],
 }
 
 /// Advances H by one step from E (Faraday's law).
 pub fn update_h(f: &mut Fields, c: &Coefficients) {
-    let (nr, nz) = (c.nr, c.nz);
-    let (ch, idr, idz, par) = (c.ch, c.inv_dr, c.inv_dz, c.row_parallel);
-    let nj1 = nz + 1;
-    let Fields {
-        er,
-        ephi,
-        ez,
-        hr,
-        hphi,
-        hz,
-        ..
-    } = f;
-    let (er, ephi, ez) = (&er[..], &ephi[..], &ez[..]);
-    // μ ∂t h_r = (m/r) e_z + ∂z e_φ, rows 1..nr (the axis row is derived,
-    // the outer-wall row is normal H on a PEC wall and stays zero).
-    rows(hr, nz, 1, nr, par, |i, hr| {
-        let mr = c.m_over_r_int[i];
-        let ez = &ez[i * nz..(i + 1) * nz];
-        let ep = &ephi[i * nj1..(i + 1) * nj1];
-        for j in 0..nz {
-            hr[j] += ch * (mr * ez[j] + (ep[j + 1] - ep[j]) * idz);
-        }
-    });
-    // μ ∂t h_φ = −∂z e_r + ∂r e_z.
-    rows(hphi, nz, 0, nr, par, |i, hp| {
-        let er = &er[i * nj1..(i + 1) * nj1];
-        let ez0 = &ez[i * nz..(i + 1) * nz];
-        let ez1 = &ez[(i + 1) * nz..(i + 2) * nz];
-        for j in 0..nz {
-            hp[j] += ch * ((ez1[j] - ez0[j]) * idr - (er[j + 1] - er[j]) * idz);
-        }
-    });
-    // μ ∂t h_z = −(1/r) ∂r(r e_φ) − (m/r) e_r.
-    rows(hz, nj1, 0, nr, par, |i, hz| {
-        let (a, b, mr) = (c.hz_out[i], c.hz_in[i], c.m_over_r_half[i]);
-        let ep0 = &ephi[i * nj1..(i + 1) * nj1];
-        let ep1 = &ephi[(i + 1) * nj1..(i + 2) * nj1];
-        let er = &er[i * nj1..(i + 1) * nj1];
-        for j in 0..nj1 {
-            hz[j] -= ch * (a * ep1[j] - b * ep0[j] + mr * er[j]);
-        }
-    });
+    h_half_step(f, c, None, true);
 }
 
-/// Advances E by one step from H (Ampère's law, no sources).
+/// Advances E by one step from H (Ampère's law, no sources), with the
+/// off-diagonal permittivity coupling at curved interfaces.
 pub fn update_e(f: &mut Fields, c: &Coefficients) {
+    e_half_step(f, c, None, true);
+}
+
+/// One full leapfrog step: H from E, then E from H, each row followed at
+/// once by the absorber's terms of `pml` (while it is in cache). Gives the
+/// same bits as [`update_h`], [`Pml::correct_h`], [`update_e`],
+/// [`Pml::correct_e`] in turn, in less time.
+pub fn step(f: &mut Fields, c: &Coefficients, mut pml: Option<&mut Pml>) {
+    h_half_step(f, c, pml.as_deref_mut(), true);
+    e_half_step(f, c, pml, true);
+}
+
+/// The H half step: every row's bulk update (if `bulk`), then the row's
+/// absorber terms (if `pml`).
+pub(crate) fn h_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml>, bulk: bool) {
     let (nr, nz) = (c.nr, c.nz);
-    let (idr, idz, par) = (c.inv_dr, c.inv_dz, c.row_parallel);
     let nj1 = nz + 1;
-    // Odd image of tangential H across a PMC plane; across a PEC plane the
-    // E node is held (cb = 0) and the value is irrelevant.
-    let img = |w: ZWall| if w == ZWall::Pmc { -1.0 } else { 0.0 };
-    let (ib, it) = (img(c.bottom), img(c.top));
     let Fields {
         er,
         ephi,
@@ -145,93 +266,204 @@ pub fn update_e(f: &mut Fields, c: &Coefficients) {
         hz,
         ..
     } = f;
-    let (hr, hphi, hz) = (&hr[..], &hphi[..], &hz[..]);
-    // ε ∂t e_r = (m/r) h_z − ∂z h_φ.
-    rows(er, nj1, 0, nr, par, |i, er| {
-        let mr = c.m_over_r_half[i];
-        let cb = &c.cb_er[i * nj1..(i + 1) * nj1];
-        let hz = &hz[i * nj1..(i + 1) * nj1];
-        let hp = &hphi[i * nz..(i + 1) * nz];
-        er[0] += cb[0] * (mr * hz[0] - (hp[0] - ib * hp[0]) * idz);
-        for j in 1..nz {
-            er[j] += cb[j] * (mr * hz[j] - (hp[j] - hp[j - 1]) * idz);
+    let e = EFields { er, ephi, ez };
+    let (params, psi): (Option<&PmlParams>, HPsi) = match pml {
+        Some(p) => {
+            let (a, b) = p.split_h();
+            (Some(a), b)
         }
-        er[nz] += cb[nz] * (mr * hz[nz] - (it * hp[nz - 1] - hp[nz - 1]) * idz);
-    });
-    // ε ∂t e_φ = ∂z h_r − ∂r h_z, rows 1..nr (axis derived, outer wall held).
-    rows(ephi, nj1, 1, nr, par, |i, ep| {
-        let cb = &c.cb_ephi[i * nj1..(i + 1) * nj1];
-        let hr = &hr[i * nz..(i + 1) * nz];
-        let hz0 = &hz[(i - 1) * nj1..i * nj1];
-        let hz1 = &hz[i * nj1..(i + 1) * nj1];
-        ep[0] += cb[0] * ((hr[0] - ib * hr[0]) * idz - (hz1[0] - hz0[0]) * idr);
-        for j in 1..nz {
-            ep[j] += cb[j] * ((hr[j] - hr[j - 1]) * idz - (hz1[j] - hz0[j]) * idr);
+        None => (None, HPsi::none()),
+    };
+    let views = HViews {
+        hr: Rows::new(hr, nz, 0),
+        hphi: Rows::new(hphi, nz, 0),
+        hz: Rows::new(hz, nj1, 0),
+        psi,
+    };
+    let body = |i: usize, v: &mut HViews| {
+        // The axis row of H_r is derived, its outer-wall row is normal H on
+        // a PEC wall and stays zero: H_r rows 1..nr.
+        let mut hr = if i >= 1 { v.hr.row(i) } else { None };
+        let hphi = v.hphi.row(i).expect("an H_φ row");
+        let hz = v.hz.row(i).expect("an H_z row");
+        if bulk {
+            h_bulk(c, &e, i, hr.as_deref_mut(), hphi, hz);
         }
-        ep[nz] += cb[nz] * ((it * hr[nz - 1] - hr[nz - 1]) * idz - (hz1[nz] - hz0[nz]) * idr);
-    });
-    // ε ∂t e_z = (1/r) ∂r(r h_φ) − (m/r) h_r, rows 1..nr.
-    rows(ez, nz, 1, nr, par, |i, ez| {
-        let (a, b, mr) = (c.ez_out[i], c.ez_in[i], c.m_over_r_int[i]);
-        let cb = &c.cb_ez[i * nz..(i + 1) * nz];
-        let hp0 = &hphi[(i - 1) * nz..i * nz];
-        let hp1 = &hphi[i * nz..(i + 1) * nz];
-        let hr = &hr[i * nz..(i + 1) * nz];
-        for j in 0..nz {
-            ez[j] += cb[j] * (a * hp1[j] - b * hp0[j] - mr * hr[j]);
+        if let Some(p) = params {
+            p.h_row(i, c, &e, hr, hphi, hz, &mut v.psi);
         }
-    });
-    // Axis, m = 0 only (cb is zero on the axis for m ≥ 1):
-    // ε ∂t e_z(0) = 4 h_φ(½)/Δr.
-    if c.m == 0 {
-        let cb = &c.cb_ez[0..nz];
-        let hp = &hphi[0..nz];
-        let ez = &mut ez[0..nz];
-        for j in 0..nz {
-            ez[j] += cb[j] * 4.0 * idr * hp[j];
-        }
-    }
-    // Off-diagonal permittivity at curved interfaces (few nodes).
-    if let Some(cp) = &c.coupling {
-        for (l, taps) in &cp.er {
-            let s: f64 = taps.iter().map(|&(k, w)| w * curl_z(hr, hphi, c, k)).sum();
-            er[*l] += s;
-        }
-        for (k, taps) in &cp.ez {
-            let s: f64 = taps.iter().map(|&(l, w)| w * curl_r(hphi, hz, c, l)).sum();
-            ez[*k] += s;
-        }
-    }
+    };
+    for_rows(0, nr, views, c.row_parallel, grain(nr), &body);
 }
 
-/// (∇×H)_z at E_z node `k` as in [`update_e`] (without the 1/ε factor).
-fn curl_z(hr: &[f64], hphi: &[f64], c: &Coefficients, k: usize) -> f64 {
-    let nz = c.nz;
-    let (i, j) = (k / nz, k % nz);
-    if i == 0 {
-        return 4.0 * c.inv_dr * hphi[j];
-    }
-    c.ez_out[i] * hphi[i * nz + j]
-        - c.ez_in[i] * hphi[(i - 1) * nz + j]
-        - c.m_over_r_int[i] * hr[i * nz + j]
+/// The E half step: every row's bulk update and off-diagonal coupling (if
+/// `bulk`), then the row's absorber terms (if `pml`).
+pub(crate) fn e_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml>, bulk: bool) {
+    let (nr, nz) = (c.nr, c.nz);
+    let nj1 = nz + 1;
+    let Fields {
+        er,
+        ephi,
+        ez,
+        hr,
+        hphi,
+        hz,
+        ..
+    } = f;
+    let h = HFields { hr, hphi, hz };
+    let (params, psi): (Option<&PmlParams>, EPsi) = match pml {
+        Some(p) => {
+            let (a, b) = p.split_e();
+            (Some(a), b)
+        }
+        None => (None, EPsi::none()),
+    };
+    let views = EViews {
+        er: Rows::new(er, nj1, 0),
+        ephi: Rows::new(ephi, nj1, 0),
+        ez: Rows::new(ez, nz, 0),
+        psi,
+    };
+    let body = |i: usize, v: &mut EViews| {
+        let er = v.er.row(i).expect("an E_r row");
+        // E_φ: axis derived, outer wall held: rows 1..nr. E_z: rows 1..nr,
+        // and the axis row for m = 0.
+        let mut ephi = if i >= 1 { v.ephi.row(i) } else { None };
+        let ez = v.ez.row(i).expect("an E_z row");
+        if bulk {
+            e_bulk(c, &h, i, er, ephi.as_deref_mut(), ez);
+            if let Some(cp) = &c.coupling {
+                cp.apply_row(i, &h, er, ez);
+            }
+        }
+        if let Some(p) = params {
+            p.e_row(i, c, &h, er, ephi, ez, &mut v.psi);
+        }
+    };
+    for_rows(0, nr, views, c.row_parallel, grain(nr), &body);
 }
 
-/// (∇×H)_r at E_r node `l` as in [`update_e`], with the PMC images.
-fn curl_r(hphi: &[f64], hz: &[f64], c: &Coefficients, l: usize) -> f64 {
+/// The bulk update of H row `i` (H_r on rows 1..nr only). On rows i ≥ 1
+/// the three components are updated in one pass over j, which loads each
+/// E value once for the three of them.
+#[inline]
+fn h_bulk(
+    c: &Coefficients,
+    e: &EFields,
+    i: usize,
+    hr: Option<&mut [f64]>,
+    hp: &mut [f64],
+    hz: &mut [f64],
+) {
     let (nz, nj1) = (c.nz, c.nz + 1);
-    let (i, j) = (l / nj1, l % nj1);
-    let img = |w: ZWall| if w == ZWall::Pmc { -1.0 } else { 0.0 };
-    let above = if j < nz {
-        hphi[i * nz + j]
+    let (ch, idr, idz) = (c.ch, c.inv_dr, c.inv_dz);
+    let (a, b, mrh) = (c.hz_out[i], c.hz_in[i], c.m_over_r_half[i]);
+    let ez0 = &e.ez[i * nz..(i + 1) * nz];
+    let ez1 = &e.ez[(i + 1) * nz..(i + 2) * nz];
+    let ep0 = &e.ephi[i * nj1..(i + 1) * nj1];
+    let ep1 = &e.ephi[(i + 1) * nj1..(i + 2) * nj1];
+    let er = &e.er[i * nj1..(i + 1) * nj1];
+    let (hp, hz) = (&mut hp[..nz], &mut hz[..nj1]);
+    let (p0, p0n, p1) = (&ep0[..nz], &ep0[1..], &ep1[..nz]);
+    let (r0, r0n) = (&er[..nz], &er[1..]);
+    match hr {
+        Some(hr) => {
+            let hr = &mut hr[..nz];
+            let mri = c.m_over_r_int[i];
+            for j in 0..nz {
+                // μ ∂t h_r = (m/r) e_z + ∂z e_φ
+                hr[j] += ch * (mri * ez0[j] + (p0n[j] - p0[j]) * idz);
+                // μ ∂t h_φ = −∂z e_r + ∂r e_z
+                hp[j] += ch * ((ez1[j] - ez0[j]) * idr - (r0n[j] - r0[j]) * idz);
+                // μ ∂t h_z = −(1/r) ∂r(r e_φ) − (m/r) e_r, the radial term
+                // as Faraday's law on the annulus r_i … r_{i+1}
+                hz[j] -= ch * (a * p1[j] - b * p0[j] + mrh * r0[j]);
+            }
+        }
+        None => {
+            for j in 0..nz {
+                hp[j] += ch * ((ez1[j] - ez0[j]) * idr - (r0n[j] - r0[j]) * idz);
+                hz[j] -= ch * (a * p1[j] - b * p0[j] + mrh * r0[j]);
+            }
+        }
+    }
+    hz[nz] -= ch * (a * ep1[nz] - b * ep0[nz] + mrh * er[nz]);
+}
+
+/// Odd image factor of tangential H across a z wall: −1 across a PMC
+/// plane; across a PEC plane the E node is held (cb = 0) and the value is
+/// irrelevant (0).
+fn image(w: ZWall) -> f64 {
+    if w == ZWall::Pmc {
+        -1.0
     } else {
-        img(c.top) * hphi[i * nz + nz - 1]
+        0.0
+    }
+}
+
+/// The bulk update of E row `i`: E_r everywhere; E_φ and E_z on rows
+/// 1..nr, in one pass with E_r over the interior j; E_z of the axis for
+/// m = 0.
+#[inline]
+fn e_bulk(
+    c: &Coefficients,
+    h: &HFields,
+    i: usize,
+    er: &mut [f64],
+    ephi: Option<&mut [f64]>,
+    ez: &mut [f64],
+) {
+    let (nz, nj1) = (c.nz, c.nz + 1);
+    let (idr, idz) = (c.inv_dr, c.inv_dz);
+    let (ib, it) = (image(c.bottom), image(c.top));
+    let mrh = c.m_over_r_half[i];
+    let cbr = &c.cb_er[i * nj1..(i + 1) * nj1];
+    let hz1 = &h.hz[i * nj1..(i + 1) * nj1];
+    let hp1 = &h.hphi[i * nz..(i + 1) * nz];
+    let er = &mut er[..nj1];
+    // End nodes of E_r, with the image of H_φ across the z walls.
+    er[0] += cbr[0] * (mrh * hz1[0] - (hp1[0] - ib * hp1[0]) * idz);
+    er[nz] += cbr[nz] * (mrh * hz1[nz] - (it * hp1[nz - 1] - hp1[nz - 1]) * idz);
+    let n = nz - 1;
+    let (g, cbr, z1) = (&mut er[1..nz], &cbr[1..nz], &hz1[1..nz]);
+    let (q0, q1) = (&hp1[..n], &hp1[1..]);
+    let Some(ep) = ephi else {
+        // The axis row: E_r, and E_z of the axis for m = 0 (cb is zero
+        // there for m ≥ 1): ε ∂t e_z(0) = 4 h_φ(½)/Δr.
+        for j in 0..n {
+            g[j] += cbr[j] * (mrh * z1[j] - (q1[j] - q0[j]) * idz);
+        }
+        if c.m == 0 {
+            let (ez, cb, hp) = (&mut ez[..nz], &c.cb_ez[..nz], &h.hphi[..nz]);
+            for j in 0..nz {
+                ez[j] += cb[j] * 4.0 * idr * hp[j];
+            }
+        }
+        return;
     };
-    let below = if j > 0 {
-        hphi[i * nz + j - 1]
-    } else {
-        img(c.bottom) * hphi[i * nz]
-    };
-    c.m_over_r_half[i] * hz[l] - (above - below) * c.inv_dz
+    let (a, b, mri) = (c.ez_out[i], c.ez_in[i], c.m_over_r_int[i]);
+    let cbp = &c.cb_ephi[i * nj1..(i + 1) * nj1];
+    let cbz = &c.cb_ez[i * nz..(i + 1) * nz];
+    let hz0 = &h.hz[(i - 1) * nj1..i * nj1];
+    let hp0 = &h.hphi[(i - 1) * nz..i * nz];
+    let hr = &h.hr[i * nz..(i + 1) * nz];
+    let (ep, ez) = (&mut ep[..nj1], &mut ez[..nz]);
+    // End nodes of E_φ with the image of H_r, and the first E_z.
+    ep[0] += cbp[0] * ((hr[0] - ib * hr[0]) * idz - (hz1[0] - hz0[0]) * idr);
+    ep[nz] += cbp[nz] * ((it * hr[nz - 1] - hr[nz - 1]) * idz - (hz1[nz] - hz0[nz]) * idr);
+    ez[0] += cbz[0] * (a * hp1[0] - b * hp0[0] - mri * hr[0]);
+    let (f, ez, cbp, cbz) = (&mut ep[1..nz], &mut ez[1..], &cbp[1..nz], &cbz[1..]);
+    let (z0, p0) = (&hz0[1..nz], &hp0[1..]);
+    let (r0, r1) = (&hr[..n], &hr[1..]);
+    for j in 0..n {
+        // ε ∂t e_r = (m/r) h_z − ∂z h_φ
+        g[j] += cbr[j] * (mrh * z1[j] - (q1[j] - q0[j]) * idz);
+        // ε ∂t e_φ = ∂z h_r − ∂r h_z
+        f[j] += cbp[j] * ((r1[j] - r0[j]) * idz - (z1[j] - z0[j]) * idr);
+        // ε ∂t e_z = (1/r) ∂r(r h_φ) − (m/r) h_r, the radial term as
+        // Ampère's law on the annulus r_{i−½} … r_{i+½}
+        ez[j] += cbz[j] * (a * q1[j] - b * p0[j] - mri * r1[j]);
+    }
 }
 
 /// Writes the derived axis values of order m = 1 (e_φ(0) = −e_r(0),

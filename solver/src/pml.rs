@@ -55,13 +55,22 @@
 //! The bulk kernel computes X everywhere; [`Pml::correct_h`] and
 //! [`Pml::correct_e`] then, in the layers only, recompute each stretched term,
 //! advance its ψ and add it with the term's own factor. Outside the layers σ =
-//! 0, so nothing changes there. The stretching is a property of the
+//! 0, so nothing changes there. [`crate::kernel::step`] applies the same
+//! corrections row by row right after each row's bulk update, with the same
+//! bits.
+//!
+//! # Storage
+//! Every ψ is stored by grid row with `j` contiguous: the z layers keep, per
+//! row, the columns where their σ is non-zero (bottom layer first), the radial
+//! layer whole rows of its own rows. Each row's corrections are then loops
+//! over contiguous slices, like the bulk update. The stretching is a property of the
 //! coordinates, not of the material, so bodies may run into the layer (a
 //! ground plane or a substrate reaching the absorber).
 use crate::boundary::{Absorber, Walls};
 use crate::coefficients::Coefficients;
 use crate::consts::{EPS0, ETA0};
 use crate::fields::Fields;
+use crate::kernel::{e_half_step, h_half_step, EFields, HFields, Rows};
 use lathe_mesh::Grid;
 use std::f64::consts::PI;
 
@@ -82,95 +91,138 @@ fn rational(c: f64, d: f64, alpha: f64, dt: f64) -> (f64, f64) {
     (b, c / (alpha + d) * (1.0 - b))
 }
 
-/// One auxiliary field ψ over a rectangle of nodes `[i0, i1) × [j0, j1)`.
-#[derive(Debug, Clone)]
-struct Psi {
-    i0: usize,
-    j0: usize,
-    nj: usize,
-    v: Vec<f64>,
+/// A run of columns `lo..hi` of a z layer whose ψ sits at `off..` in each
+/// row of the layer's auxiliary fields.
+#[derive(Debug, Clone, Copy)]
+struct Segment {
+    lo: usize,
+    hi: usize,
+    off: usize,
 }
 
-impl Psi {
-    fn new(i0: usize, i1: usize, j0: usize, j1: usize) -> Psi {
-        Psi {
-            i0,
-            j0,
-            nj: j1 - j0,
-            v: vec![0.0; (i1 - i0) * (j1 - j0)],
-        }
-    }
-    #[inline]
-    fn step(&mut self, i: usize, j: usize, b: f64, a: f64, x: f64) -> f64 {
-        let k = (i - self.i0) * self.nj + (j - self.j0);
-        let p = b * self.v[k] + a * x;
-        self.v[k] = p;
-        p
-    }
-}
-
-/// Per-position factors along one axis, for integer and half-integer nodes.
+/// The radial layer's factors, by absolute row index.
 #[derive(Debug, Clone)]
-struct Profile {
-    /// (b, a) at integer positions 0..=n.
-    int: Vec<(f64, f64)>,
-    /// (b, a) at half-integer positions 0..n.
-    half: Vec<(f64, f64)>,
-}
-
-/// Layer on one z plane.
-#[derive(Debug, Clone)]
-struct ZLayer {
-    /// Integer j range [j0, j1) and half range [h0, h1).
-    j0: usize,
-    j1: usize,
-    h0: usize,
-    h1: usize,
-    hr: Psi,   // ∂z e_φ in the H_r update
-    hphi: Psi, // ∂z e_r in the H_φ update
-    er: Psi,   // ∂z h_φ in the E_r update
-    ephi: Psi, // ∂z h_r in the E_φ update
-}
-
-/// Layer on the outer radius.
-#[derive(Debug, Clone)]
-struct RLayer {
-    /// First integer row and first half row of the layer.
-    i0: usize,
-    h0: usize,
-    /// (b, a) of 1/s̄ (the 1/r̃ terms) at integer and half rows.
-    bar: Profile,
-    /// (b, a) of the primal-length stretch 1/s_P at half rows (`half`) and
-    /// of the dual-length stretch 1/s_D at integer rows (`int`).
-    len: Profile,
+struct Radial {
+    /// First row (integer and half) of the layer.
+    first: usize,
+    /// (b, a) of 1/s̄ (the 1/r̃ terms) at integer rows 0..=nr.
+    bar_int: Vec<(f64, f64)>,
+    /// (b, a) of 1/s̄ at half rows 0..nr.
+    bar_half: Vec<(f64, f64)>,
+    /// (b, a) of the dual-length stretch 1/s_D at integer rows.
+    len_int: Vec<(f64, f64)>,
+    /// (b, a) of the primal-length stretch 1/s_P at half rows.
+    len_half: Vec<(f64, f64)>,
     /// (b, a) of r̄_i/r̃_i at integer rows (E_z's radial difference).
     ratio: Vec<(f64, f64)>,
     /// (b, a) of r̂/r̃_{i+½} at half rows (H_z's radial difference).
     ratio_half: Vec<(f64, f64)>,
-    ez_ratio: Psi, // r̄/r̃ applied after 1/s_D
-    hz_ratio: Psi, // r̂/r̃ applied after 1/s_P
-    hr_bar: Psi,   // (m/r) e_z
-    hphi_d: Psi,   // ∂r e_z
-    hz_d: Psi,     // ∂r e_φ
-    hz_bar: Psi,   // (e_φ avg + m e_r)/r
-    er_bar: Psi,   // (m/r) h_z
-    ephi_d: Psi,   // ∂r h_z
-    ez_d: Psi,     // ∂r h_φ
-    ez_bar: Psi,   // h_φ avg / r − (m/r) h_r
+}
+
+/// The fixed part of the absorbers: profiles and where they act.
+#[derive(Debug, Clone)]
+pub(crate) struct PmlParams {
+    /// b and a of 1/s_z at integer positions j = 0..=nz.
+    zb_int: Vec<f64>,
+    za_int: Vec<f64>,
+    /// b and a of 1/s_z at half positions j + ½, j = 0..nz.
+    zb_half: Vec<f64>,
+    za_half: Vec<f64>,
+    /// Columns of the z layers in the H update (half positions) and in the
+    /// E update (integer positions, the terminating PEC nodes excluded).
+    zh: Vec<Segment>,
+    ze: Vec<Segment>,
+    radial: Option<Radial>,
+}
+
+/// The auxiliary fields ψ, each row-major with `j` contiguous.
+#[derive(Debug, Clone)]
+struct PsiState {
+    /// z layers, rows 0..nr, `wh` (H) or `we` (E) columns per row.
+    wh: usize,
+    we: usize,
+    hr_z: Vec<f64>,   // ∂z e_φ in the H_r update
+    hphi_z: Vec<f64>, // ∂z e_r in the H_φ update
+    er_z: Vec<f64>,   // ∂z h_φ in the E_r update
+    ephi_z: Vec<f64>, // ∂z h_r in the E_φ update
+    /// Radial layer, rows `first..nr`.
+    first: usize,
+    hr_bar: Vec<f64>,   // (m/r) e_z
+    hphi_d: Vec<f64>,   // ∂r e_z
+    hz_d: Vec<f64>,     // ∂r e_φ
+    hz_ratio: Vec<f64>, // r̂/r̃ applied after 1/s_P
+    hz_bar: Vec<f64>,   // (e_φ avg + m e_r)/r
+    er_bar: Vec<f64>,   // (m/r) h_z
+    ephi_d: Vec<f64>,   // ∂r h_z
+    ez_d: Vec<f64>,     // ∂r h_φ
+    ez_ratio: Vec<f64>, // r̄/r̃ applied after 1/s_D
+    ez_bar: Vec<f64>,   // h_φ avg / r − (m/r) h_r
 }
 
 /// The absorbers of one run with their auxiliary fields.
 #[derive(Debug, Clone)]
 pub struct Pml {
-    z_prof: Profile,
-    bottom: Option<ZLayer>,
-    top: Option<ZLayer>,
-    outer: Option<RLayer>,
+    params: PmlParams,
+    psi: PsiState,
+    nz: usize,
 }
+
+/// The auxiliary fields of the H half step, split by row.
+pub(crate) struct HPsi<'a> {
+    hr_z: Rows<'a>,
+    hphi_z: Rows<'a>,
+    hr_bar: Rows<'a>,
+    hphi_d: Rows<'a>,
+    hz_d: Rows<'a>,
+    hz_ratio: Rows<'a>,
+    hz_bar: Rows<'a>,
+}
+
+/// The auxiliary fields of the E half step, split by row.
+pub(crate) struct EPsi<'a> {
+    er_z: Rows<'a>,
+    ephi_z: Rows<'a>,
+    er_bar: Rows<'a>,
+    ephi_d: Rows<'a>,
+    ez_d: Rows<'a>,
+    ez_ratio: Rows<'a>,
+    ez_bar: Rows<'a>,
+}
+
+macro_rules! split_rows {
+    ($t:ident, $($f:ident),*) => {
+        impl<'a> $t<'a> {
+            /// No absorber.
+            pub(crate) fn none() -> $t<'a> {
+                $t { $($f: Rows::none()),* }
+            }
+            /// Rows before `i` and from `i` on.
+            pub(crate) fn split_at(self, i: usize) -> ($t<'a>, $t<'a>) {
+                $(let $f = self.$f.split_at(i);)*
+                ($t { $($f: $f.0),* }, $t { $($f: $f.1),* })
+            }
+        }
+    };
+}
+split_rows!(HPsi, hr_z, hphi_z, hr_bar, hphi_d, hz_d, hz_ratio, hz_bar);
+split_rows!(EPsi, er_z, ephi_z, er_bar, ephi_d, ez_d, ez_ratio, ez_bar);
 
 /// σ_max of an absorber of thickness `d` metres.
 fn sigma_max(a: &Absorber, d: f64) -> f64 {
     -(a.order + 1.0) * a.reflection.ln() / (2.0 * ETA0 * d)
+}
+
+/// The columns of `range` where `a` is non-zero (they are contiguous: σ
+/// grows monotonically into each layer), as a segment at `off`.
+fn segment(a: &[f64], range: std::ops::Range<usize>, off: usize) -> Option<Segment> {
+    let on: Vec<usize> = range.filter(|&j| a[j] != 0.0).collect();
+    let (&lo, &last) = (on.first()?, on.last()?);
+    debug_assert_eq!(on.len(), last + 1 - lo, "expected a contiguous layer");
+    Some(Segment {
+        lo,
+        hi: last + 1,
+        off,
+    })
 }
 
 impl Pml {
@@ -208,25 +260,23 @@ impl Pml {
             }
             (s, alpha)
         };
-        let z_prof = Profile {
-            int: (0..=nz)
-                .map(|j| {
-                    let (s, al) = zsig(j as f64);
-                    factors(s, al, dt)
-                })
-                .collect(),
-            half: (0..nz)
-                .map(|j| {
-                    let (s, al) = zsig(j as f64 + 0.5);
-                    factors(s, al, dt)
-                })
-                .collect(),
-        };
+        let z_int: Vec<(f64, f64)> = (0..=nz)
+            .map(|j| {
+                let (s, al) = zsig(j as f64);
+                factors(s, al, dt)
+            })
+            .collect();
+        let z_half: Vec<(f64, f64)> = (0..nz)
+            .map(|j| {
+                let (s, al) = zsig(j as f64 + 0.5);
+                factors(s, al, dt)
+            })
+            .collect();
         // Radial layer, discretised as finite integration in the stretched
         // coordinate r̃ (see the module docs, "Discrete stretching"):
         // r̃ = r + I(r)/p at every row, integer and half, with
         // I(r) = ∫₀^r σ_r dr' exact.
-        let outer = out.map(|a| {
+        let radial = out.map(|a| {
             let d = a.cells.min(nr) as f64;
             let r0 = nr as f64 - d; // the layer starts at this integer row
             let smax = sigma_max(&a, d * grid.dr);
@@ -241,29 +291,25 @@ impl Pml {
             let at_half = |i: usize| big_i(i as f64 + 0.5);
             let r_int = |i: usize| i as f64 * dr;
             let r_half = |i: usize| (i as f64 + 0.5) * dr;
-            let bar = Profile {
-                int: (0..=nr)
-                    .map(|i| {
-                        let s = if i == 0 { 0.0 } else { at_int(i) / r_int(i) };
-                        factors(s, alpha, dt)
-                    })
-                    .collect(),
-                half: (0..nr)
-                    .map(|i| factors(at_half(i) / r_half(i), alpha, dt))
-                    .collect(),
-            };
+            let bar_int = (0..=nr)
+                .map(|i| {
+                    let s = if i == 0 { 0.0 } else { at_int(i) / r_int(i) };
+                    factors(s, alpha, dt)
+                })
+                .collect();
+            let bar_half = (0..nr)
+                .map(|i| factors(at_half(i) / r_half(i), alpha, dt))
+                .collect();
             // Lengths: primal Δr̃_{i+½} = r̃_{i+1} − r̃_i, dual Δr̃_i = r̃_{i+½} − r̃_{i−½}.
-            let len = Profile {
-                int: (0..=nr)
-                    .map(|i| {
-                        let lo = if i == 0 { 0.0 } else { at_half(i - 1) };
-                        factors((at_half(i) - lo) / dr, alpha, dt)
-                    })
-                    .collect(),
-                half: (0..nr)
-                    .map(|i| factors((at_int(i + 1) - at_int(i)) / dr, alpha, dt))
-                    .collect(),
-            };
+            let len_int = (0..=nr)
+                .map(|i| {
+                    let lo = if i == 0 { 0.0 } else { at_half(i - 1) };
+                    factors((at_half(i) - lo) / dr, alpha, dt)
+                })
+                .collect();
+            let len_half = (0..nr)
+                .map(|i| factors((at_int(i + 1) - at_int(i)) / dr, alpha, dt))
+                .collect();
             // E_z: r̄_i/r̃_i with r̄_i = (r̃_{i+½} + r̃_{i−½})/2;
             // H_z: r̂/r̃_{i+½} with r̂ = (r̃_i + r̃_{i+1})/2. Each is
             // (p + J/r)/(p + I/r) = 1 + (J − I)/r / (p + I/r).
@@ -284,213 +330,559 @@ impl Pml {
                     rational((j - at_half(i)) / r, at_half(i) / r, alpha, dt)
                 })
                 .collect();
-            let i0 = nr - a.cells.min(nr);
-            let h0 = i0;
-            let nj1 = nz + 1;
-            RLayer {
-                i0,
-                h0,
-                bar,
-                len,
+            Radial {
+                first: nr - a.cells.min(nr),
+                bar_int,
+                bar_half,
+                len_int,
+                len_half,
                 ratio,
                 ratio_half,
-                ez_ratio: Psi::new(i0, nr + 1, 0, nz),
-                hz_ratio: Psi::new(h0, nr, 0, nj1),
-                hr_bar: Psi::new(i0, nr + 1, 0, nz),
-                hphi_d: Psi::new(h0, nr, 0, nz),
-                hz_d: Psi::new(h0, nr, 0, nj1),
-                hz_bar: Psi::new(h0, nr, 0, nj1),
-                er_bar: Psi::new(h0, nr, 0, nj1),
-                ephi_d: Psi::new(i0, nr + 1, 0, nj1),
-                ez_d: Psi::new(i0, nr + 1, 0, nz),
-                ez_bar: Psi::new(i0, nr + 1, 0, nz),
             }
         });
-        let zlayer = |a: Absorber, at_bottom: bool| {
+        let (zb_int, za_int): (Vec<f64>, Vec<f64>) = z_int.into_iter().unzip();
+        let (zb_half, za_half): (Vec<f64>, Vec<f64>) = z_half.into_iter().unzip();
+        // Columns of each z layer: bottom [0, c] integer and [0, c) half,
+        // top [nz − c, nz] and [nz − c, nz); the terminating PEC nodes
+        // j = 0, nz are held and take no correction.
+        let (mut zh, mut ze) = (Vec::new(), Vec::new());
+        let (mut wh, mut we) = (0, 0);
+        for (a, at_bottom) in [(bot, true), (top, false)] {
+            let Some(a) = a else { continue };
             let c = a.cells.min(nz);
-            let (j0, j1, h0, h1) = if at_bottom {
-                (0, c + 1, 0, c)
+            let (ints, halves) = if at_bottom {
+                (0..c + 1, 0..c)
             } else {
-                (nz - c, nz + 1, nz - c, nz)
+                (nz - c..nz + 1, nz - c..nz)
             };
-            ZLayer {
-                j0,
-                j1,
-                h0,
-                h1,
-                hr: Psi::new(0, nr + 1, h0, h1),
-                hphi: Psi::new(0, nr, h0, h1),
-                er: Psi::new(0, nr, j0, j1),
-                ephi: Psi::new(0, nr + 1, j0, j1),
+            if let Some(s) = segment(&za_half, halves, wh) {
+                wh += s.hi - s.lo;
+                zh.push(s);
             }
+            let ints = ints.start.max(1)..ints.end.min(nz);
+            if let Some(s) = segment(&za_int, ints, we) {
+                we += s.hi - s.lo;
+                ze.push(s);
+            }
+        }
+        let first = radial.as_ref().map_or(nr, |r| r.first);
+        let nj1 = nz + 1;
+        let rows = nr - first;
+        let psi = PsiState {
+            wh,
+            we,
+            hr_z: vec![0.0; nr * wh],
+            hphi_z: vec![0.0; nr * wh],
+            er_z: vec![0.0; nr * we],
+            ephi_z: vec![0.0; nr * we],
+            first,
+            hr_bar: vec![0.0; rows * nz],
+            hphi_d: vec![0.0; rows * nz],
+            hz_d: vec![0.0; rows * nj1],
+            hz_ratio: vec![0.0; rows * nj1],
+            hz_bar: vec![0.0; rows * nj1],
+            er_bar: vec![0.0; rows * nj1],
+            ephi_d: vec![0.0; rows * nj1],
+            ez_d: vec![0.0; rows * nz],
+            ez_ratio: vec![0.0; rows * nz],
+            ez_bar: vec![0.0; rows * nz],
         };
         Some(Pml {
-            z_prof,
-            bottom: bot.map(|a| zlayer(a, true)),
-            top: top.map(|a| zlayer(a, false)),
-            outer,
+            params: PmlParams {
+                zb_int,
+                za_int,
+                zb_half,
+                za_half,
+                zh,
+                ze,
+                radial,
+            },
+            psi,
+            nz,
         })
     }
 
     /// Bytes held by the auxiliary fields.
     pub fn bytes(&self) -> usize {
-        let z = |l: &Option<ZLayer>| {
-            l.as_ref().map_or(0, |l| {
-                8 * (l.hr.v.len() + l.hphi.v.len() + l.er.v.len() + l.ephi.v.len())
-            })
-        };
-        let r = self.outer.as_ref().map_or(0, |l| {
-            8 * [
-                &l.hr_bar,
-                &l.hphi_d,
-                &l.hz_d,
-                &l.hz_bar,
-                &l.er_bar,
-                &l.ephi_d,
-                &l.ez_d,
-                &l.ez_bar,
-                &l.ez_ratio,
-                &l.hz_ratio,
-            ]
-            .iter()
-            .map(|p| p.v.len())
-            .sum::<usize>()
-        });
-        z(&self.bottom) + z(&self.top) + r
+        let p = &self.psi;
+        8 * [
+            &p.hr_z,
+            &p.hphi_z,
+            &p.er_z,
+            &p.ephi_z,
+            &p.hr_bar,
+            &p.hphi_d,
+            &p.hz_d,
+            &p.hz_ratio,
+            &p.hz_bar,
+            &p.er_bar,
+            &p.ephi_d,
+            &p.ez_d,
+            &p.ez_ratio,
+            &p.ez_bar,
+        ]
+        .iter()
+        .map(|v| v.len())
+        .sum::<usize>()
     }
 
     /// Adds the stretched-coordinate corrections to H after [`crate::kernel::update_h`].
     pub fn correct_h(&mut self, f: &mut Fields, c: &Coefficients) {
-        let (nr, nz) = (c.nr, c.nz);
-        let nj1 = nz + 1;
-        let (ch, idr, idz) = (c.ch, c.inv_dr, c.inv_dz);
-        for layer in [&mut self.bottom, &mut self.top].into_iter().flatten() {
-            for j in layer.h0..layer.h1 {
-                let (b, a) = self.z_prof.half[j];
-                if a == 0.0 {
-                    continue;
-                }
-                // μ ∂t h_r ∋ ∂z e_φ, rows 1..nr.
-                for i in 1..nr {
-                    let x = (f.ephi[i * nj1 + j + 1] - f.ephi[i * nj1 + j]) * idz;
-                    f.hr[i * nz + j] += ch * layer.hr.step(i, j, b, a, x);
-                }
-                // μ ∂t h_φ ∋ −∂z e_r.
-                for i in 0..nr {
-                    let x = (f.er[i * nj1 + j + 1] - f.er[i * nj1 + j]) * idz;
-                    f.hphi[i * nz + j] -= ch * layer.hphi.step(i, j, b, a, x);
-                }
-            }
-        }
-        if let Some(l) = &mut self.outer {
-            for i in l.i0.max(1)..nr {
-                let (b, a) = l.bar.int[i];
-                if a == 0.0 {
-                    continue;
-                }
-                let mr = c.m_over_r_int[i];
-                for j in 0..nz {
-                    let x = mr * f.ez[i * nz + j];
-                    f.hr[i * nz + j] += ch * l.hr_bar.step(i, j, b, a, x);
-                }
-            }
-            for i in l.h0..nr {
-                let (b, a) = l.len.half[i];
-                let (bb, ab) = l.bar.half[i];
-                let (br, ar) = l.ratio_half[i];
-                let r = (i as f64 + 0.5) / idr;
-                let mr = c.m_over_r_half[i];
-                for j in 0..nz {
-                    if a != 0.0 {
-                        let x = (f.ez[(i + 1) * nz + j] - f.ez[i * nz + j]) * idr;
-                        f.hphi[i * nz + j] += ch * l.hphi_d.step(i, j, b, a, x);
-                    }
-                }
-                for j in 0..nj1 {
-                    let (e0, e1) = (f.ephi[i * nj1 + j], f.ephi[(i + 1) * nj1 + j]);
-                    if a != 0.0 || ar != 0.0 {
-                        // (r̂/r̃)·(1/s_P)·X − X, two recursions in cascade.
-                        let x = (e1 - e0) * idr;
-                        let y = x + l.hz_d.step(i, j, b, a, x);
-                        let z = y + l.hz_ratio.step(i, j, br, ar, y);
-                        f.hz[i * nj1 + j] -= ch * (z - x);
-                    }
-                    if ab != 0.0 {
-                        let x = 0.5 * (e1 + e0) / r + mr * f.er[i * nj1 + j];
-                        f.hz[i * nj1 + j] -= ch * l.hz_bar.step(i, j, bb, ab, x);
-                    }
-                }
-            }
-        }
+        h_half_step(f, c, Some(self), false);
     }
 
     /// Adds the stretched-coordinate corrections to E after [`crate::kernel::update_e`].
     pub fn correct_e(&mut self, f: &mut Fields, c: &Coefficients) {
-        let (nr, nz) = (c.nr, c.nz);
-        let nj1 = nz + 1;
-        let (idr, idz) = (c.inv_dr, c.inv_dz);
-        for layer in [&mut self.bottom, &mut self.top].into_iter().flatten() {
-            for j in layer.j0..layer.j1 {
-                let (b, a) = self.z_prof.int[j];
-                if a == 0.0 || j == 0 || j == nz {
-                    continue; // the terminating PEC nodes are held
-                }
-                // ε ∂t e_r ∋ −∂z h_φ.
-                for i in 0..nr {
-                    let x = (f.hphi[i * nz + j] - f.hphi[i * nz + j - 1]) * idz;
-                    let cb = c.cb_er[i * nj1 + j];
-                    f.er[i * nj1 + j] -= cb * layer.er.step(i, j, b, a, x);
-                }
-                // ε ∂t e_φ ∋ ∂z h_r, rows 1..nr.
-                for i in 1..nr {
-                    let x = (f.hr[i * nz + j] - f.hr[i * nz + j - 1]) * idz;
-                    let cb = c.cb_ephi[i * nj1 + j];
-                    f.ephi[i * nj1 + j] += cb * layer.ephi.step(i, j, b, a, x);
+        e_half_step(f, c, Some(self), false);
+    }
+
+    /// The factors and the H half step's auxiliary fields by row.
+    pub(crate) fn split_h(&mut self) -> (&PmlParams, HPsi<'_>) {
+        let (nz, nj1) = (self.nz, self.nz + 1);
+        let p = &mut self.psi;
+        let first = p.first;
+        (
+            &self.params,
+            HPsi {
+                hr_z: Rows::new(&mut p.hr_z, p.wh, 0),
+                hphi_z: Rows::new(&mut p.hphi_z, p.wh, 0),
+                hr_bar: Rows::new(&mut p.hr_bar, nz, first),
+                hphi_d: Rows::new(&mut p.hphi_d, nz, first),
+                hz_d: Rows::new(&mut p.hz_d, nj1, first),
+                hz_ratio: Rows::new(&mut p.hz_ratio, nj1, first),
+                hz_bar: Rows::new(&mut p.hz_bar, nj1, first),
+            },
+        )
+    }
+
+    /// The factors and the E half step's auxiliary fields by row.
+    pub(crate) fn split_e(&mut self) -> (&PmlParams, EPsi<'_>) {
+        let (nz, nj1) = (self.nz, self.nz + 1);
+        let p = &mut self.psi;
+        let first = p.first;
+        (
+            &self.params,
+            EPsi {
+                er_z: Rows::new(&mut p.er_z, p.we, 0),
+                ephi_z: Rows::new(&mut p.ephi_z, p.we, 0),
+                er_bar: Rows::new(&mut p.er_bar, nj1, first),
+                ephi_d: Rows::new(&mut p.ephi_d, nj1, first),
+                ez_d: Rows::new(&mut p.ez_d, nz, first),
+                ez_ratio: Rows::new(&mut p.ez_ratio, nz, first),
+                ez_bar: Rows::new(&mut p.ez_bar, nz, first),
+            },
+        )
+    }
+}
+
+impl PmlParams {
+    /// The absorber's terms of H row `i` (H_r, H_φ, H_z; `hr` is `None`
+    /// on the rows H_r does not update), added after its bulk update: the
+    /// z layers' segments in order, then the radial layer's terms.
+    #[allow(clippy::too_many_arguments)]
+    pub(crate) fn h_row(
+        &self,
+        i: usize,
+        c: &Coefficients,
+        e: &EFields,
+        mut hr: Option<&mut [f64]>,
+        hphi: &mut [f64],
+        hz: &mut [f64],
+        psi: &mut HPsi,
+    ) {
+        let (nz, nj1) = (c.nz, c.nz + 1);
+        let (ch, idr, idz) = (c.ch, c.inv_dr, c.inv_dz);
+        let er = &e.er[i * nj1..(i + 1) * nj1];
+        let ep = &e.ephi[i * nj1..(i + 1) * nj1];
+        let ez = &e.ez[i * nz..(i + 1) * nz];
+        if !self.zh.is_empty() {
+            let p_hr = psi.hr_z.row(i).expect("a z-layer row");
+            let p_hp = psi.hphi_z.row(i).expect("a z-layer row");
+            for s in &self.zh {
+                let (lo, hi, off) = (s.lo, s.hi, s.off);
+                let n = hi - lo;
+                let (b, a) = (&self.zb_half[lo..hi], &self.za_half[lo..hi]);
+                // μ ∂t h_φ ∋ −∂z e_r, and μ ∂t h_r ∋ ∂z e_φ (rows 1..nr).
+                let (w0, w1) = (&er[lo..hi], &er[lo + 1..hi + 1]);
+                let (u, pu) = (&mut hphi[lo..hi], &mut p_hp[off..off + n]);
+                match hr.as_deref_mut() {
+                    Some(hr) => {
+                        let (v0, v1) = (&ep[lo..hi], &ep[lo + 1..hi + 1]);
+                        let (v, pv) = (&mut hr[lo..hi], &mut p_hr[off..off + n]);
+                        let w = ((w0, w1), (v0, v1));
+                        diff2::<f64, true, false>(u, pu, v, pv, w.0, w.1, (ch, ch), idz, b, a);
+                    }
+                    None => diff::<f64, _, true>(u, pu, w0, w1, idz, b, a, ch),
                 }
             }
         }
-        if let Some(l) = &mut self.outer {
-            for i in l.h0..nr {
-                let (bb, ab) = l.bar.half[i];
-                if ab == 0.0 {
-                    continue;
-                }
-                let mr = c.m_over_r_half[i];
-                for j in 0..nj1 {
-                    let x = mr * f.hz[i * nj1 + j];
-                    let cb = c.cb_er[i * nj1 + j];
-                    f.er[i * nj1 + j] += cb * l.er_bar.step(i, j, bb, ab, x);
+        let Some(l) = &self.radial else { return };
+        if i < l.first {
+            return;
+        }
+        // μ ∂t h_r ∋ (m/r) e_z, stretched by 1/s̄.
+        if let Some(hr) = hr {
+            let (b, a) = l.bar_int[i];
+            if a != 0.0 {
+                let p = psi.hr_bar.row(i).expect("a radial row");
+                scaled::<f64, false>(&mut hr[..nz], p, ez, c.m_over_r_int[i], b, a, ch);
+            }
+        }
+        let ez1 = &e.ez[(i + 1) * nz..(i + 2) * nz];
+        let ep1 = &e.ephi[(i + 1) * nj1..(i + 2) * nj1];
+        let (b, a) = l.len_half[i];
+        // μ ∂t h_φ ∋ ∂r e_z, stretched by 1/s_P.
+        if a != 0.0 {
+            let p = psi.hphi_d.row(i).expect("a radial row");
+            diff::<f64, _, false>(&mut hphi[..nz], p, ez, ez1, idr, b, a, ch);
+        }
+        // μ ∂t h_z ∋ −∂r e_φ: (r̂/r̃)·(1/s_P)·X − X, two recursions in
+        // cascade; then μ ∂t h_z ∋ −(e_φ avg + m e_r)/r, stretched by 1/s̄.
+        let (br, ar) = l.ratio_half[i];
+        let (bb, ab) = l.bar_half[i];
+        let r = (i as f64 + 0.5) / idr;
+        let t = (c.m_over_r_half[i], er);
+        let hz = &mut hz[..nj1];
+        let pd = psi.hz_d.row(i).expect("a radial row");
+        let pq = psi.hz_ratio.row(i).expect("a radial row");
+        let pb = psi.hz_bar.row(i).expect("a radial row");
+        match (a != 0.0 || ar != 0.0, ab != 0.0) {
+            (true, true) => {
+                let f = ((b, a), (br, ar), (bb, ab));
+                cascade_bar::<f64, true, false>(hz, pd, pq, pb, ep, ep1, idr, r, t, f, ch)
+            }
+            (true, false) => cascade::<f64, true>(hz, pd, pq, ep, ep1, idr, (b, a), (br, ar), ch),
+            (false, true) => bar::<f64, true, false>(hz, pb, ep, ep1, r, t, (bb, ab), ch),
+            (false, false) => {}
+        }
+    }
+
+    /// The absorber's terms of E row `i` (E_r, E_φ, E_z; `ephi` is `None`
+    /// on the rows E_φ does not update), added after its bulk update and
+    /// coupling: the z layers' segments in order, then the radial layer's
+    /// terms.
+    #[allow(clippy::too_many_arguments)]
+    pub(crate) fn e_row(
+        &self,
+        i: usize,
+        c: &Coefficients,
+        h: &HFields,
+        er: &mut [f64],
+        mut ephi: Option<&mut [f64]>,
+        ez: &mut [f64],
+        psi: &mut EPsi,
+    ) {
+        let (nz, nj1) = (c.nz, c.nz + 1);
+        let (idr, idz) = (c.inv_dr, c.inv_dz);
+        let hp = &h.hphi[i * nz..(i + 1) * nz];
+        let hr = &h.hr[i * nz..(i + 1) * nz];
+        let hz = &h.hz[i * nj1..(i + 1) * nj1];
+        let cbr = &c.cb_er[i * nj1..(i + 1) * nj1];
+        let cbp = &c.cb_ephi[i * nj1..(i + 1) * nj1];
+        if !self.ze.is_empty() {
+            let p_er = psi.er_z.row(i).expect("a z-layer row");
+            let p_ep = psi.ephi_z.row(i).expect("a z-layer row");
+            for s in &self.ze {
+                let (lo, hi, off) = (s.lo, s.hi, s.off);
+                let n = hi - lo;
+                let (b, a) = (&self.zb_int[lo..hi], &self.za_int[lo..hi]);
+                // ε ∂t e_r ∋ −∂z h_φ, and ε ∂t e_φ ∋ ∂z h_r (rows 1..nr).
+                let (w0, w1) = (&hp[lo - 1..hi - 1], &hp[lo..hi]);
+                let (u, pu, cb) = (&mut er[lo..hi], &mut p_er[off..off + n], &cbr[lo..hi]);
+                match ephi.as_deref_mut() {
+                    Some(ep) => {
+                        let (v0, v1) = (&hr[lo - 1..hi - 1], &hr[lo..hi]);
+                        let (v, pv) = (&mut ep[lo..hi], &mut p_ep[off..off + n]);
+                        let w = ((w0, w1), (v0, v1));
+                        let cbs = (cb, &cbp[lo..hi]);
+                        diff2::<&[f64], true, false>(u, pu, v, pv, w.0, w.1, cbs, idz, b, a);
+                    }
+                    None => diff::<&[f64], _, true>(u, pu, w0, w1, idz, b, a, cb),
                 }
             }
-            for i in l.i0.max(1)..nr {
-                let (b, a) = l.len.int[i];
-                let (bb, ab) = l.bar.int[i];
-                let (br, ar) = l.ratio[i];
-                let r = i as f64 / idr;
-                let mr = c.m_over_r_int[i];
-                if a != 0.0 {
-                    for j in 0..nj1 {
-                        let x = (f.hz[i * nj1 + j] - f.hz[(i - 1) * nj1 + j]) * idr;
-                        let cb = c.cb_ephi[i * nj1 + j];
-                        f.ephi[i * nj1 + j] -= cb * l.ephi_d.step(i, j, b, a, x);
-                    }
-                }
-                for j in 0..nz {
-                    let (h0, h1) = (f.hphi[(i - 1) * nz + j], f.hphi[i * nz + j]);
-                    let cb = c.cb_ez[i * nz + j];
-                    if a != 0.0 || ar != 0.0 {
-                        // (r̄/r̃)·(1/s_D)·X − X, two recursions in cascade.
-                        let x = (h1 - h0) * idr;
-                        let y = x + l.ez_d.step(i, j, b, a, x);
-                        let z = y + l.ez_ratio.step(i, j, br, ar, y);
-                        f.ez[i * nz + j] += cb * (z - x);
-                    }
-                    if ab != 0.0 {
-                        let x = 0.5 * (h1 + h0) / r - mr * f.hr[i * nz + j];
-                        f.ez[i * nz + j] += cb * l.ez_bar.step(i, j, bb, ab, x);
-                    }
-                }
+        }
+        let Some(l) = &self.radial else { return };
+        if i < l.first {
+            return;
+        }
+        // ε ∂t e_r ∋ (m/r) h_z, stretched by 1/s̄.
+        let (bb, ab) = l.bar_half[i];
+        if ab != 0.0 {
+            let p = psi.er_bar.row(i).expect("a radial row");
+            scaled::<&[f64], false>(&mut er[..nj1], p, hz, c.m_over_r_half[i], bb, ab, cbr);
+        }
+        // E_φ and E_z of the axis row take no radial term.
+        let Some(ep) = ephi else { return };
+        let (b, a) = l.len_int[i];
+        // ε ∂t e_φ ∋ −∂r h_z, stretched by 1/s_D.
+        if a != 0.0 {
+            let hz0 = &h.hz[(i - 1) * nj1..i * nj1];
+            let p = psi.ephi_d.row(i).expect("a radial row");
+            diff::<&[f64], _, true>(&mut ep[..nj1], p, hz0, hz, idr, b, a, cbp);
+        }
+        let hp0 = &h.hphi[(i - 1) * nz..i * nz];
+        let cbz = &c.cb_ez[i * nz..(i + 1) * nz];
+        // ε ∂t e_z ∋ (1/r) ∂r(r h_φ): (r̄/r̃)·(1/s_D)·X − X, two recursions
+        // in cascade; then ε ∂t e_z ∋ h_φ avg / r − (m/r) h_r, stretched by
+        // 1/s̄.
+        let (br, ar) = l.ratio[i];
+        let (bb, ab) = l.bar_int[i];
+        let r = i as f64 / idr;
+        let t = (c.m_over_r_int[i], hr);
+        let ez = &mut ez[..nz];
+        let pd = psi.ez_d.row(i).expect("a radial row");
+        let pq = psi.ez_ratio.row(i).expect("a radial row");
+        let pb = psi.ez_bar.row(i).expect("a radial row");
+        match (a != 0.0 || ar != 0.0, ab != 0.0) {
+            (true, true) => {
+                let f = ((b, a), (br, ar), (bb, ab));
+                cascade_bar::<&[f64], false, true>(ez, pd, pq, pb, hp0, hp, idr, r, t, f, cbz)
             }
+            (true, false) => {
+                cascade::<&[f64], false>(ez, pd, pq, hp0, hp, idr, (b, a), (br, ar), cbz)
+            }
+            (false, true) => bar::<&[f64], false, true>(ez, pb, hp0, hp, r, t, (bb, ab), cbz),
+            (false, false) => {}
+        }
+    }
+}
+
+/// A factor by entry: one value for a whole row (f64) or one per entry
+/// (a slice, indexed from the start of the span).
+trait ByEntry: Copy {
+    /// The first `n` entries (a no-op for a row value).
+    fn fit(self, n: usize) -> Self;
+    /// The value at entry `j`.
+    fn at(self, j: usize) -> f64;
+}
+
+impl ByEntry for f64 {
+    #[inline(always)]
+    fn fit(self, _: usize) -> f64 {
+        self
+    }
+    #[inline(always)]
+    fn at(self, _: usize) -> f64 {
+        self
+    }
+}
+
+impl ByEntry for &[f64] {
+    #[inline(always)]
+    fn fit(self, n: usize) -> Self {
+        &self[..n]
+    }
+    #[inline(always)]
+    fn at(self, j: usize) -> f64 {
+        self[j]
+    }
+}
+
+/// One step of the recursive convolution: ψ ← bψ + aX, returned.
+#[inline(always)]
+fn advance(psi: &mut f64, b: f64, a: f64, x: f64) -> f64 {
+    let p = b * *psi + a * x;
+    *psi = p;
+    p
+}
+
+/// u ± s·ψ (− when `NEG`) over a span, ψ ← bψ + aX with the difference
+/// X = (w1 − w0)·k. `S` is the field's factor (Δt/μ0, or Δt/ε by node),
+/// `F` the recursion's (by column in the z layers, by row in the radial
+/// layer). Not inlined, so that its slices are known not to alias and the
+/// loop vectorises.
+#[allow(clippy::too_many_arguments)]
+#[inline(never)]
+fn diff<S: ByEntry, F: ByEntry, const NEG: bool>(
+    u: &mut [f64],
+    psi: &mut [f64],
+    w0: &[f64],
+    w1: &[f64],
+    k: f64,
+    b: F,
+    a: F,
+    s: S,
+) {
+    let n = u.len();
+    let (psi, w0, w1) = (&mut psi[..n], &w0[..n], &w1[..n]);
+    let (b, a, s) = (b.fit(n), a.fit(n), s.fit(n));
+    for j in 0..n {
+        let x = (w1[j] - w0[j]) * k;
+        let p = advance(&mut psi[j], b.at(j), a.at(j), x);
+        if NEG {
+            u[j] -= s.at(j) * p;
+        } else {
+            u[j] += s.at(j) * p;
+        }
+    }
+}
+
+/// [`diff`] on two fields at once over the same z-layer span (same b, a):
+/// u ∓ s·ψ_u with X_u = (w1 − w0)·k, then v ∓ t·ψ_v with X_v = (v1 − v0)·k
+/// (− when `NEGU`, `NEGV`).
+#[allow(clippy::too_many_arguments)]
+#[inline(never)]
+fn diff2<S: ByEntry, const NEGU: bool, const NEGV: bool>(
+    u: &mut [f64],
+    pu: &mut [f64],
+    v: &mut [f64],
+    pv: &mut [f64],
+    (w0, w1): (&[f64], &[f64]),
+    (v0, v1): (&[f64], &[f64]),
+    (s, t): (S, S),
+    k: f64,
+    b: &[f64],
+    a: &[f64],
+) {
+    let n = u.len();
+    let (pu, w0, w1, s) = (&mut pu[..n], &w0[..n], &w1[..n], s.fit(n));
+    let (v, pv, v0, v1, t) = (&mut v[..n], &mut pv[..n], &v0[..n], &v1[..n], t.fit(n));
+    let (b, a) = (&b[..n], &a[..n]);
+    for j in 0..n {
+        let x = (w1[j] - w0[j]) * k;
+        let p = advance(&mut pu[j], b[j], a[j], x);
+        if NEGU {
+            u[j] -= s.at(j) * p;
+        } else {
+            u[j] += s.at(j) * p;
+        }
+        let x = (v1[j] - v0[j]) * k;
+        let p = advance(&mut pv[j], b[j], a[j], x);
+        if NEGV {
+            v[j] -= t.at(j) * p;
+        } else {
+            v[j] += t.at(j) * p;
+        }
+    }
+}
+
+/// [`cascade`] then [`bar`] on the same field in one pass (the order of
+/// each entry's two terms is kept).
+#[allow(clippy::too_many_arguments, clippy::type_complexity)]
+#[inline(never)]
+fn cascade_bar<S: ByEntry, const NEG: bool, const NEGT: bool>(
+    u: &mut [f64],
+    pd: &mut [f64],
+    pq: &mut [f64],
+    pb: &mut [f64],
+    w0: &[f64],
+    w1: &[f64],
+    k: f64,
+    r: f64,
+    (mr, v): (f64, &[f64]),
+    ((bd, ad), (bq, aq), (bb, ab)): ((f64, f64), (f64, f64), (f64, f64)),
+    s: S,
+) {
+    let n = u.len();
+    let (pd, pq, pb) = (&mut pd[..n], &mut pq[..n], &mut pb[..n]);
+    let (w0, w1, v, s) = (&w0[..n], &w1[..n], &v[..n], s.fit(n));
+    for j in 0..n {
+        let x = (w1[j] - w0[j]) * k;
+        let y = x + advance(&mut pd[j], bd, ad, x);
+        let z = y + advance(&mut pq[j], bq, aq, y);
+        let mut e = u[j];
+        if NEG {
+            e -= s.at(j) * (z - x);
+        } else {
+            e += s.at(j) * (z - x);
+        }
+        let x = if NEGT {
+            0.5 * (w1[j] + w0[j]) / r - mr * v[j]
+        } else {
+            0.5 * (w1[j] + w0[j]) / r + mr * v[j]
+        };
+        let p = advance(&mut pb[j], bb, ab, x);
+        if NEG {
+            e -= s.at(j) * p;
+        } else {
+            e += s.at(j) * p;
+        }
+        u[j] = e;
+    }
+}
+
+/// u ± s·ψ over a row, ψ ← bψ + aX with X = k·w (the m/r terms).
+#[allow(clippy::too_many_arguments)]
+#[inline(never)]
+fn scaled<S: ByEntry, const NEG: bool>(
+    u: &mut [f64],
+    psi: &mut [f64],
+    w: &[f64],
+    k: f64,
+    b: f64,
+    a: f64,
+    s: S,
+) {
+    let n = u.len();
+    let (psi, w, s) = (&mut psi[..n], &w[..n], s.fit(n));
+    for j in 0..n {
+        let x = k * w[j];
+        let p = advance(&mut psi[j], b, a, x);
+        if NEG {
+            u[j] -= s.at(j) * p;
+        } else {
+            u[j] += s.at(j) * p;
+        }
+    }
+}
+
+/// u ± s·(Z − X) over a row: X = (w1 − w0)·k, Y = X + ψ_d, Z = Y + ψ_q with
+/// ψ_d ← b_d ψ_d + a_d X and ψ_q ← b_q ψ_q + a_q Y (two first-order
+/// factors in cascade).
+#[allow(clippy::too_many_arguments)]
+#[inline(never)]
+fn cascade<S: ByEntry, const NEG: bool>(
+    u: &mut [f64],
+    pd: &mut [f64],
+    pq: &mut [f64],
+    w0: &[f64],
+    w1: &[f64],
+    k: f64,
+    (bd, ad): (f64, f64),
+    (bq, aq): (f64, f64),
+    s: S,
+) {
+    let n = u.len();
+    let (pd, pq, w0, w1, s) = (&mut pd[..n], &mut pq[..n], &w0[..n], &w1[..n], s.fit(n));
+    for j in 0..n {
+        let x = (w1[j] - w0[j]) * k;
+        let y = x + advance(&mut pd[j], bd, ad, x);
+        let z = y + advance(&mut pq[j], bq, aq, y);
+        if NEG {
+            u[j] -= s.at(j) * (z - x);
+        } else {
+            u[j] += s.at(j) * (z - x);
+        }
+    }
+}
+
+/// u ± s·ψ over a row, ψ ← bψ + aX with the 1/r terms
+/// X = ½(w1 + w0)/r ± m_r·v (− when `NEGT`).
+#[allow(clippy::too_many_arguments)]
+#[inline(never)]
+fn bar<S: ByEntry, const NEG: bool, const NEGT: bool>(
+    u: &mut [f64],
+    psi: &mut [f64],
+    w0: &[f64],
+    w1: &[f64],
+    r: f64,
+    (mr, v): (f64, &[f64]),
+    (b, a): (f64, f64),
+    s: S,
+) {
+    let n = u.len();
+    let (psi, w0, w1, v, s) = (&mut psi[..n], &w0[..n], &w1[..n], &v[..n], s.fit(n));
+    for j in 0..n {
+        let x = if NEGT {
+            0.5 * (w1[j] + w0[j]) / r - mr * v[j]
+        } else {
+            0.5 * (w1[j] + w0[j]) / r + mr * v[j]
+        };
+        let p = advance(&mut psi[j], b, a, x);
+        if NEG {
+            u[j] -= s.at(j) * p;
+        } else {
+            u[j] += s.at(j) * p;
         }
     }
 }
