@@ -95,7 +95,7 @@ impl<'a> Rows<'a> {
     /// The rows before row `i` and the rows from `i` on.
     pub(crate) fn split_at(self, i: usize) -> (Rows<'a>, Rows<'a>) {
         let (len, first) = (self.len, self.first);
-        let held = if len == 0 { 0 } else { self.data.len() / len };
+        let held = self.data.len().checked_div(len).unwrap_or(0);
         let k = i.saturating_sub(first).min(held);
         let (a, b) = self.data.split_at_mut(k * len);
         (
