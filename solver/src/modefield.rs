@@ -15,7 +15,7 @@
 //! check finds (and for each new one later), so the transform covers the
 //! ring-down from that check on; memory is capped (see [`MAX_BYTES`]).
 //!
-//! # Separating the modes ([`demix`])
+//! # Separating the modes (`demix`)
 //! A plain transform at ω_l also holds every other mode k, weighted by how
 //! little the sum cancels it (about A_k/(|ω_k − ω_l| T)): a weakly excited
 //! mode's map would show its strong neighbours. Since harmonic inversion
@@ -48,7 +48,7 @@ pub const MAX_BYTES: usize = 1 << 30;
 /// The complex field of one mode: six components on their own Yee
 /// positions, same shapes as [`Fields`], phasors U of u = Re{U e^{jωt}}
 /// at the first sample of the mode's transform (E and H at the same
-/// instant), separated from the other modes of the run ([`demix`]); the
+/// instant), separated from the other modes of the run (module docs); the
 /// overall amplitude and phase are arbitrary.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ModeField {
