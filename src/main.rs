@@ -749,7 +749,16 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                 return Ok(());
             }
             let study = solve_study(&s, &name, &pool, &options, quiet)?;
-            let rad = radiation_of(&study, &s, &pool, 1.0)?;
+            // Radiation figures are an addition to the modes: when they
+            // cannot be computed (e.g. a body reaches the radiation surface)
+            // the modes are still reported, with the reason.
+            let rad = match radiation_of(&study, &s, &pool, 1.0) {
+                Ok(r) => r,
+                Err(Failure::Run(why) | Failure::Input(why)) => {
+                    eprintln!("warning: no radiation figures: {why}");
+                    None
+                }
+            };
             emit(&output::table(&study));
             if let Some(r) = &rad {
                 emit("\nradiation (lathe pattern for cuts and maps)\n");
