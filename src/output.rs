@@ -256,9 +256,9 @@ pub fn plan_text(
         if let Some((pr, p)) = plans.iter().max_by_key(|(pr, _)| pr.materials.grid.cells()) {
             let rate = lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25);
             let g = &pr.materials.grid;
-            // Small grids step one run per thread; large ones split their
+            // Small grids step one run per thread; larger ones split their
             // rows over the pool (then the timed rate is already the pool's).
-            let runs_in_parallel = if g.cells() >= pr.options.row_parallel_cells {
+            let runs_in_parallel = if pr.options.splits_rows(g.cells()) {
                 1
             } else {
                 concurrent

@@ -22,7 +22,7 @@ pub fn step_rate(problem: &Problem, m: u32, dt: f64, min_seconds: f64) -> f64 {
     let map = &problem.materials;
     let g = &map.grid;
     let mut coeffs = Coefficients::new(map, &problem.walls, m, dt);
-    coeffs.row_parallel = g.cells() >= problem.options.row_parallel_cells;
+    coeffs.row_parallel = problem.options.splits_rows(g.cells());
     let mut f = Fields::zeros(g);
     // A non-zero start so every branch of the arithmetic is exercised
     // (values far above the subnormal range; they stay bounded for the few
@@ -31,7 +31,7 @@ pub fn step_rate(problem: &Problem, m: u32, dt: f64, min_seconds: f64) -> f64 {
         *x = 1e-3 * ((k % 97) as f64);
     }
     let mut pml = Pml::new(g, &problem.walls, dt);
-    let mut step = |f: &mut Fields| crate::run::leapfrog_step(f, &coeffs, &mut pml);
+    let mut step = |f: &mut Fields| crate::kernel::step(f, &coeffs, pml.as_mut());
     step(&mut f);
     let start = Instant::now();
     let mut steps = 0u64;

@@ -317,15 +317,11 @@ impl<'a> ModeData<'a> {
         index: usize,
         materials: &'a MaterialMap,
     ) -> Result<ModeData<'a>, FarFieldError> {
-        let md = run.modes.get(index).ok_or(FarFieldError::NoMode {
+        let (md, field) = run.mode_with_field(index).ok_or(FarFieldError::NoMode {
             index,
             count: run.modes.len(),
         })?;
-        let field = run
-            .mode_fields
-            .get(index)
-            .and_then(|f| f.as_ref())
-            .ok_or(FarFieldError::NoField { index })?;
+        let field = field.ok_or(FarFieldError::NoField { index })?;
         Ok(ModeData {
             m: md.m,
             freq_hz: md.freq_hz,

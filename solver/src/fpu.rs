@@ -34,6 +34,28 @@ pub fn with_gradual_underflow<R>(f: impl FnOnce() -> R) -> R {
     r
 }
 
+/// The current thread's floating-point mode, to be handed to the threads
+/// that do part of this thread's work ([`with_mode`]).
+pub(crate) fn current_mode() -> u64 {
+    imp::get()
+}
+
+/// Runs `f` in the floating-point mode `mode` (read by [`current_mode`],
+/// typically on another thread), restoring this thread's mode afterwards:
+/// rows of one run stepped by a helper thread then flush subnormals exactly
+/// as the run's own thread does, so the bits do not depend on which thread
+/// took them.
+pub(crate) fn with_mode<R>(mode: u64, f: impl FnOnce() -> R) -> R {
+    let saved = imp::get();
+    if saved == mode {
+        return f();
+    }
+    imp::restore(mode);
+    let r = f();
+    imp::restore(saved);
+    r
+}
+
 impl Drop for FlushSubnormals {
     fn drop(&mut self) {
         imp::restore(self.saved);
@@ -54,6 +76,13 @@ mod imp {
             let new = csr | FTZ | DAZ;
             std::arch::asm!("ldmxcsr [{}]", in(reg) &new, options(nostack));
         }
+        csr as u64
+    }
+
+    pub fn get() -> u64 {
+        let mut csr: u32 = 0;
+        // SAFETY: stmxcsr only writes the SSE control register to a local.
+        unsafe { std::arch::asm!("stmxcsr [{}]", in(reg) &mut csr, options(nostack)) };
         csr as u64
     }
 
@@ -89,6 +118,13 @@ mod imp {
         fpcr
     }
 
+    pub fn get() -> u64 {
+        let fpcr: u64;
+        // SAFETY: reading FPCR has no effect.
+        unsafe { std::arch::asm!("mrs {}, fpcr", out(reg) fpcr) };
+        fpcr
+    }
+
     pub fn clear() -> u64 {
         let fpcr: u64;
         // SAFETY: as above.
@@ -108,6 +144,9 @@ mod imp {
 #[cfg(not(any(target_arch = "x86_64", target_arch = "aarch64")))]
 mod imp {
     pub fn set() -> u64 {
+        0
+    }
+    pub fn get() -> u64 {
         0
     }
     pub fn clear() -> u64 {

@@ -128,31 +128,95 @@ trait SplitRows: Sized + Send {
     fn split_at(self, i: usize) -> (Self, Self);
 }
 
+/// How a half step's rows are split over the pool: in blocks of about
+/// `1/threads` of the step's cost, rows from `heavy` on (the radial
+/// absorber's, with ten auxiliary recursions per cell besides the six
+/// field updates) weighing [`RADIAL_ROW_WEIGHT`] times a plain row.
+#[derive(Clone, Copy)]
+struct Split {
+    par: bool,
+    heavy: usize,
+    /// Largest block, in cost units (a plain row is 1).
+    grain: f64,
+}
+
+/// Cost of a radial-absorber row relative to a plain row (the full step's
+/// time on the benchmark grids of `solver/benches`, with and without the
+/// absorber).
+const RADIAL_ROW_WEIGHT: f64 = 2.5;
+
+impl Split {
+    fn new(par: bool, rows: usize, heavy: usize) -> Split {
+        let mut s = Split {
+            par,
+            heavy,
+            grain: 0.0,
+        };
+        let threads = rayon::current_num_threads().max(1) as f64;
+        s.grain = (s.cost(rows) / threads).max(4.0) * 1.0001;
+        s
+    }
+
+    /// Cost of rows 0..i.
+    fn cost(&self, i: usize) -> f64 {
+        i as f64 + (RADIAL_ROW_WEIGHT - 1.0) * i.saturating_sub(self.heavy) as f64
+    }
+
+    /// The row that splits lo..hi into halves of equal cost.
+    fn middle(&self, lo: usize, hi: usize) -> usize {
+        let target = 0.5 * (self.cost(lo) + self.cost(hi));
+        let (mut a, mut b) = (lo + 1, hi - 1);
+        while a < b {
+            let mid = a + (b - a) / 2;
+            if self.cost(mid) < target {
+                a = mid + 1;
+            } else {
+                b = mid;
+            }
+        }
+        a
+    }
+}
+
 /// Runs `body(i, &mut views)` for every row `i` in `lo..hi`: in order on
-/// this thread, or, when `par` is set, in blocks of at most `grain` rows by
-/// recursive halving with `rayon::join`.
-fn for_rows<V, F>(lo: usize, hi: usize, mut views: V, par: bool, grain: usize, body: &F)
+/// this thread, or, when the split is parallel, in blocks of at most its
+/// grain by recursive halving with `rayon::join`, each block in this
+/// thread's floating-point mode (flush-to-zero while a run steps) on
+/// whichever thread takes it.
+fn for_rows<V, F>(lo: usize, hi: usize, views: V, split: Split, body: &F)
 where
     V: SplitRows,
     F: Fn(usize, &mut V) + Sync,
 {
-    if !par || hi - lo <= grain {
+    if split.par {
+        split_rows(lo, hi, views, split, crate::fpu::current_mode(), body);
+    } else {
+        let mut views = views;
         for i in lo..hi {
             body(i, &mut views);
         }
-        return;
     }
-    let mid = lo + (hi - lo) / 2;
-    let (a, b) = views.split_at(mid);
-    rayon::join(
-        || for_rows(lo, mid, a, par, grain, body),
-        || for_rows(mid, hi, b, par, grain, body),
-    );
 }
 
-/// Rows per parallel block: about four blocks per thread, at least 4 rows.
-fn grain(rows: usize) -> usize {
-    rows.div_ceil(4 * rayon::current_num_threads()).max(4)
+fn split_rows<V, F>(lo: usize, hi: usize, mut views: V, split: Split, mode: u64, body: &F)
+where
+    V: SplitRows,
+    F: Fn(usize, &mut V) + Sync,
+{
+    if hi - lo < 2 || split.cost(hi) - split.cost(lo) <= split.grain {
+        crate::fpu::with_mode(mode, || {
+            for i in lo..hi {
+                body(i, &mut views);
+            }
+        });
+        return;
+    }
+    let mid = split.middle(lo, hi);
+    let (a, b) = views.split_at(mid);
+    rayon::join(
+        || split_rows(lo, mid, a, split, mode, body),
+        || split_rows(mid, hi, b, split, mode, body),
+    );
 }
 
 /// The magnetic rows of one half step and the absorber's auxiliary fields
@@ -293,7 +357,9 @@ pub(crate) fn h_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml
             p.h_row(i, c, &e, hr, hphi, hz, &mut v.psi);
         }
     };
-    for_rows(0, nr, views, c.row_parallel, grain(nr), &body);
+    let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
+    let split = Split::new(c.row_parallel, nr, heavy);
+    for_rows(0, nr, views, split, &body);
 }
 
 /// The E half step: every row's bulk update and off-diagonal coupling (if
@@ -340,7 +406,9 @@ pub(crate) fn e_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml
             p.e_row(i, c, &h, er, ephi, ez, &mut v.psi);
         }
     };
-    for_rows(0, nr, views, c.row_parallel, grain(nr), &body);
+    let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
+    let split = Split::new(c.row_parallel, nr, heavy);
+    for_rows(0, nr, views, split, &body);
 }
 
 /// The bulk update of H row `i` (H_r on rows 1..nr only). On rows i ≥ 1

@@ -53,8 +53,13 @@ pub struct RunOptions {
     pub sources: usize,
     /// Probe points. Default 5 (each reads all six components).
     pub probes: usize,
-    /// Grids of at least this many cells are updated row-parallel within a
-    /// run (results are identical either way). Default 200 000.
+    /// In a pool of more than one thread, grids of at least this many cells
+    /// split each half step's rows into blocks that any thread of the pool
+    /// may take (rayon work stealing). While every thread steps a run of
+    /// its own, the blocks run where they were made, for a few joins per
+    /// step; when a thread runs out of runs it takes blocks of the others,
+    /// so the last run of a study, or a study of one run, keeps every core
+    /// busy. Results are bitwise identical either way. Default 4 096.
     pub row_parallel_cells: usize,
     /// Memory cap per run, bytes. Default 4 GiB.
     pub max_memory: usize,
@@ -64,6 +69,14 @@ pub struct RunOptions {
     pub max_mode_fields: usize,
     /// Harmonic-inversion options.
     pub fdm: FdmOptions,
+}
+
+impl RunOptions {
+    /// Whether a grid of `cells` splits its rows over the current rayon
+    /// pool (see [`RunOptions::row_parallel_cells`]).
+    pub fn splits_rows(&self, cells: usize) -> bool {
+        rayon::current_num_threads() > 1 && cells >= self.row_parallel_cells
+    }
 }
 
 impl Default for RunOptions {
@@ -80,7 +93,7 @@ impl Default for RunOptions {
             growth_limit: 100.0,
             sources: 3,
             probes: 5,
-            row_parallel_cells: 200_000,
+            row_parallel_cells: 4096,
             max_memory: 4 << 30,
             max_mode_fields: 48,
             fdm,

@@ -476,6 +476,12 @@ impl Pml {
 }
 
 impl PmlParams {
+    /// The first row of the radial layer, if there is one (its rows carry
+    /// the most auxiliary terms; see [`crate::kernel`]'s row split).
+    pub(crate) fn radial_first(&self) -> Option<usize> {
+        self.radial.as_ref().map(|r| r.first)
+    }
+
     /// The absorber's terms of H row `i` (H_r, H_φ, H_z; `hr` is `None`
     /// on the rows H_r does not update), added after its bulk update: the
     /// z layers' segments in order, then the radial layer's terms.

@@ -20,11 +20,11 @@
 use crate::coefficients::Coefficients;
 use crate::consts::MU0;
 use crate::error::SolverError;
-use crate::excitation::Point;
+use crate::excitation::{inject, read};
 use crate::fields::Fields;
 use crate::fpu::FlushSubnormals;
 use crate::harminv::{filter_diagonalisation, FdmOptions};
-use crate::kernel::{fill_axis, update_e, update_h};
+use crate::kernel::fill_axis;
 use crate::modefield::{Accumulator, ModeField};
 use crate::modes::{merge, Mode};
 use crate::plan::{plan, Problem, RunPlan};
@@ -87,6 +87,16 @@ pub struct RunOutput {
     pub walls: crate::boundary::Walls,
 }
 
+impl RunOutput {
+    /// Mode `index` (in the order of `modes`) with its field, if the run
+    /// kept one; `None` when there is no such mode.
+    pub fn mode_with_field(&self, index: usize) -> Option<(&Mode, Option<&ModeField>)> {
+        let mode = self.modes.get(index)?;
+        let field = self.mode_fields.get(index).and_then(|f| f.as_ref());
+        Some((mode, field))
+    }
+}
+
 /// Plans and runs every order of `ms` in parallel (rayon), and labels the
 /// modes ([`label_runs`]). Each run is sequential and self-contained, so
 /// results are identical for any number of threads; the first failing order
@@ -106,11 +116,26 @@ pub fn solve_with(
         .par_iter()
         .map(|&m| plan(problem, m))
         .collect::<Result<_, _>>()?;
-    let results: Vec<Result<RunOutput, SolverError>> = plans
+    // Longest run first: the rest then fill in around it, and the last to
+    // finish is a short one (which idle threads help through the row
+    // split, see [`RunOptions::row_parallel_cells`]). Runs of one problem
+    // share the grid and ring for about the same time, so the step count,
+    // ∝ 1/Δt, ranks them. Results go back into the order of `ms`.
+    let mut order: Vec<usize> = (0..plans.len()).collect();
+    order.sort_by(|&a, &b| plans[a].dt.total_cmp(&plans[b].dt));
+    let done: Vec<(usize, Result<RunOutput, SolverError>)> = order
         .par_iter()
-        .map(|p| run_with(problem, p, progress))
+        .map(|&k| (k, run_with(problem, &plans[k], progress)))
         .collect();
-    let mut runs: Vec<RunOutput> = results.into_iter().collect::<Result<_, _>>()?;
+    let mut results: Vec<Option<Result<RunOutput, SolverError>>> =
+        (0..plans.len()).map(|_| None).collect();
+    for (k, r) in done {
+        results[k] = Some(r);
+    }
+    let mut runs: Vec<RunOutput> = results
+        .into_iter()
+        .map(|r| r.expect("every order was run"))
+        .collect::<Result<_, _>>()?;
     label_runs(&mut runs.iter_mut().collect::<Vec<_>>());
     Ok(runs)
 }
@@ -178,7 +203,7 @@ pub fn run_with(
     let map = &problem.materials;
     let g = &map.grid;
     let mut coeffs = Coefficients::new(map, &problem.walls, m, plan.dt);
-    coeffs.row_parallel = g.cells() >= problem.options.row_parallel_cells;
+    coeffs.row_parallel = problem.options.splits_rows(g.cells());
     let mut f = Fields::zeros(g);
     let mut pml = Pml::new(g, &problem.walls, plan.dt);
     let table: Vec<f64> = (0..plan.source_steps)
@@ -207,7 +232,8 @@ pub fn run_with(
         }
         Ok(e)
     };
-    let mut step_once = |f: &mut Fields| leapfrog_step(f, &coeffs, &mut pml);
+    // The fused full step (same bits as whole passes; see `kernel::step`).
+    let mut step_once = |f: &mut Fields| crate::kernel::step(f, &coeffs, pml.as_mut());
     let mut peak_energy: f64 = 0.0;
     // Cell updates between two progress reports.
     let chunk = 64 * g.cells() as u64;
@@ -428,19 +454,6 @@ pub fn run_with(
     })
 }
 
-/// One full leapfrog step: H from E (Faraday), the absorber's H
-/// correction, E from H (Ampère), the absorber's E correction.
-pub(crate) fn leapfrog_step(f: &mut Fields, coeffs: &Coefficients, pml: &mut Option<Pml>) {
-    update_h(f, coeffs);
-    if let Some(p) = pml.as_mut() {
-        p.correct_h(f, coeffs);
-    }
-    update_e(f, coeffs);
-    if let Some(p) = pml.as_mut() {
-        p.correct_e(f, coeffs);
-    }
-}
-
 /// Poles whose RMS is below this fraction of the run's largest probe value
 /// (pulse included) are dropped as round-off.
 pub const NOISE_FLOOR: f64 = 1e-10;
@@ -504,23 +517,6 @@ fn same_modes(a: &[Mode], b: &[Mode]) -> bool {
             (x.freq_hz - y.freq_hz).abs() <= 1e-6 * x.freq_hz
                 && (x.decay - y.decay).abs() <= 1e-6 * w
         })
-}
-
-/// Adds the source current: ε ∂t E = ∇×H − J, so E −= cb·J at each tap.
-fn inject(f: &mut Fields, c: &Coefficients, sources: &[Point], s: f64) {
-    for p in sources {
-        for t in &p.taps {
-            let cb = c.cb(t.component)[t.index];
-            f.get_mut(t.component)[t.index] -= cb * t.weight * s;
-        }
-    }
-}
-
-fn read(f: &Fields, p: &Point) -> f64 {
-    p.taps
-        .iter()
-        .map(|t| t.weight * f.get(t.component)[t.index])
-        .sum()
 }
 
 /// Row weights for the field energy ½Σ(εE² + μH²)·r·Δr·Δz (up to a constant).

@@ -31,22 +31,18 @@ impl<'a> ModeScene<'a> {
         index: usize,
         bodies: &'a [Body],
     ) -> Result<ModeScene<'a>, PlotError> {
-        let mode = run.modes.get(index).ok_or(PlotError::NoMode {
+        let (mode, field) = run.mode_with_field(index).ok_or(PlotError::NoMode {
             index,
             count: run.modes.len(),
         })?;
-        let field = run
-            .mode_fields
-            .get(index)
-            .and_then(|f| f.as_ref())
-            .ok_or_else(|| PlotError::NoField {
-                label: if mode.label.is_empty() {
-                    format!("#{index}")
-                } else {
-                    mode.label.clone()
-                },
-                freq_ghz: mode.freq_hz / 1e9,
-            })?;
+        let field = field.ok_or_else(|| PlotError::NoField {
+            label: if mode.label.is_empty() {
+                format!("#{index}")
+            } else {
+                mode.label.clone()
+            },
+            freq_ghz: mode.freq_hz / 1e9,
+        })?;
         Ok(ModeScene {
             grid: &run.grid,
             walls: &run.walls,
