@@ -121,6 +121,49 @@ pub fn puck_can(nr: usize, nz: usize) -> (MaterialMap, Walls) {
     (fill(&g, &[puck], FillOptions::default()), walls)
 }
 
+/// An open puck of `nr × nz` cells of 0.1 mm, for grids of any size: a
+/// PMC bottom (the mid-plane of an isolated puck), the default 16-cell
+/// absorber (cubic grading, terminated by PEC) on the outer radius and the
+/// top, counted inside the `nr × nz` cells, and an ε_r 24.3 puck of radius
+/// 0.4 and half height 0.3 of the region inside the absorbers, standing on
+/// the mid-plane. Band 3.1–7.4 GHz (it sets the absorber's frequency shift
+/// and the plan's pulse; the stepping cost does not depend on it).
+pub fn puck_open(nr: usize, nz: usize) -> Problem {
+    let (f_min, f_max) = (3.1 * GHZ, 7.4 * GHZ);
+    let absorber = Absorber::default_for(f_min);
+    let n = absorber.cells;
+    assert!(
+        nr > 2 * n && nz > 2 * n,
+        "expected more than {} cells each way, got {nr} × {nz}",
+        2 * n
+    );
+    let cell = 0.1 * MM;
+    let g = Grid::new(nr as f64 * cell, 0.0, nz as f64 * cell, cell).unwrap();
+    let (inner_r, inner_z) = ((nr - n) as f64 * cell, (nz - n) as f64 * cell);
+    let puck = Body {
+        shape: Shape::Cylinder {
+            radius: 0.4 * inner_r,
+            height: 0.3 * inner_z,
+            base: 0.0,
+        },
+        material: Material::Dielectric {
+            eps_r: 24.3,
+            loss_tangent: 0.0,
+        },
+    };
+    Problem {
+        materials: fill(&g, &[puck], FillOptions::default()),
+        walls: Walls {
+            bottom: ZWall::Pmc,
+            top: ZWall::Pml(absorber),
+            outer: OuterWall::Pml(absorber),
+        },
+        f_min,
+        f_max,
+        options: RunOptions::default(),
+    }
+}
+
 /// A non-zero start so that no branch of the arithmetic sees only zeros.
 pub fn seeded_fields(g: &Grid) -> Fields {
     let mut f = Fields::zeros(g);
@@ -356,6 +399,61 @@ pub fn cpu_seconds() -> Option<f64> {
     Some((ut + st) / 100.0)
 }
 
+/// One data or unified cache of CPU 0, as /sys describes it.
+pub struct Cache {
+    /// Level (1, 2, 3, ...).
+    pub level: u32,
+    /// "d" for a data cache, "" for a unified one.
+    pub kind: &'static str,
+    /// Size as /sys writes it, e.g. "2048K".
+    pub size: String,
+    /// Size in bytes (K, M, G read as powers of 1024).
+    pub bytes: usize,
+}
+
+/// The data and unified caches of CPU 0 from /sys (Linux; empty elsewhere),
+/// innermost first; instruction caches are left out.
+pub fn caches() -> Vec<Cache> {
+    let read = |p: &str| std::fs::read_to_string(p).ok();
+    let mut out = Vec::new();
+    for k in 0..8 {
+        let base = format!("/sys/devices/system/cpu/cpu0/cache/index{k}");
+        let (Some(level), Some(kind), Some(size)) = (
+            read(&format!("{base}/level")),
+            read(&format!("{base}/type")),
+            read(&format!("{base}/size")),
+        ) else {
+            continue;
+        };
+        let kind = match kind.trim() {
+            "Data" => "d",
+            "Instruction" => continue,
+            _ => "",
+        };
+        let (Ok(level), size) = (level.trim().parse(), size.trim().to_string()) else {
+            continue;
+        };
+        let (digits, unit) = size.split_at(size.trim_end_matches(char::is_alphabetic).len());
+        let scale = match unit {
+            "" => 1,
+            "K" => 1 << 10,
+            "M" => 1 << 20,
+            "G" => 1 << 30,
+            _ => continue,
+        };
+        let Ok(n) = digits.parse::<usize>() else {
+            continue;
+        };
+        out.push(Cache {
+            level,
+            kind,
+            size,
+            bytes: n * scale,
+        });
+    }
+    out
+}
+
 /// The machine: CPU model, online CPUs, cache sizes and the load average,
 /// from /proc and /sys (Linux); what is unavailable is left out.
 pub fn machine() -> String {
@@ -369,26 +467,10 @@ pub fn machine() -> String {
         })
         .unwrap_or_else(|| "unknown CPU".into());
     let cpus = std::thread::available_parallelism().map_or(0, |n| n.get());
-    let mut caches = Vec::new();
-    for k in 0..8 {
-        let base = format!("/sys/devices/system/cpu/cpu0/cache/index{k}");
-        let (Some(level), Some(kind), Some(size)) = (
-            read(&format!("{base}/level")),
-            read(&format!("{base}/type")),
-            read(&format!("{base}/size")),
-        ) else {
-            continue;
-        };
-        let kind = match kind.trim() {
-            "Data" => "d",
-            "Instruction" => "i",
-            _ => "",
-        };
-        if kind == "i" {
-            continue;
-        }
-        caches.push(format!("L{}{} {}", level.trim(), kind, size.trim()));
-    }
+    let caches: Vec<String> = caches()
+        .iter()
+        .map(|c| format!("L{}{} {}", c.level, c.kind, c.size))
+        .collect();
     let load = read("/proc/loadavg")
         .map(|s| s.split_whitespace().take(3).collect::<Vec<_>>().join(" "))
         .unwrap_or_default();
