@@ -29,7 +29,7 @@ fn efficiency(name: &str, problem: &Problem, m: u32) {
     let g = &map.grid;
     let cells = g.cells() as f64;
     let mut c = Coefficients::new(map, &problem.walls, m, p.dt);
-    c.row_parallel = g.cells() >= problem.options.row_parallel_cells;
+    c.row_parallel = false; // one thread: see main
     let reference = Reference::new(&c, g);
     // The reference does the library's bulk arithmetic (up to rounding).
     let (mut a, mut b) = (seeded_fields(g), seeded_fields(g));
@@ -122,6 +122,16 @@ fn efficiency(name: &str, problem: &Problem, m: u32) {
 }
 
 fn main() {
+    // Everything in a pool of one thread: the figure is the kernel's, not
+    // the row split's (solver/benches/parallel.rs measures that).
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .expect("a rayon pool");
+    pool.install(report);
+}
+
+fn report() {
     println!("lathe-solver kernel efficiency (f64, 1 thread)");
     println!("machine: {}", machine());
     println!(
