@@ -41,7 +41,8 @@ pub struct Coefficients {
     pub hz_out: Vec<f64>,
     /// r_i/(r_{i+½} Δr) for H_z rows (0 at i = 0: r E_φ vanishes on the axis).
     pub hz_in: Vec<f64>,
-    /// Update rows in parallel (for large grids; see [`crate::kernel`]).
+    /// Split rows over the rayon pool (see [`crate::kernel`] and
+    /// [`crate::RunOptions::row_parallel_cells`]).
     pub row_parallel: bool,
     /// Off-diagonal permittivity coupling of E_r and E_z at curved
     /// interfaces, if any (see [`Coupling`]).

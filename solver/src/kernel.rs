@@ -54,11 +54,15 @@
 //! [`Pml::correct_h`] / [`Pml::correct_e`], in the same order, so the two
 //! ways give identical bits.
 //!
-//! Large grids are updated row-parallel (rayon) when
-//! [`Coefficients::row_parallel`] is set: the rows are split in contiguous
-//! blocks by recursive halving, each block updated by one task. Every entry
-//! is computed by the same expression on any thread, so results are
-//! bitwise identical for any thread count.
+//! Grids are updated row-parallel (rayon) when [`Coefficients::row_parallel`]
+//! is set: each half step's rows are split in contiguous blocks of about
+//! 1/threads of its cost by recursive halving (`rayon::join`), rows of the
+//! radial absorber weighing 2.5 plain rows. A block nobody steals runs on
+//! the thread that made it, so a thread busy with its own run pays a join
+//! or two per half step; an idle thread takes the other half. Each block
+//! runs in the floating-point mode of the thread that made it (flush-to-zero
+//! while a run steps). Every entry is computed by the same expression on any
+//! thread, so results are bitwise identical for any thread count.
 //!
 //! # Walls
 //! PEC walls hold their tangential E nodes at zero (`cb = 0`, set in
