@@ -211,7 +211,7 @@ fn bench(seconds: f64) -> Result<(), Failure> {
             ));
         }
     }
-    emit("Several orders or halves run side by side, one per thread; a single large run splits its rows over the threads.\n");
+    emit("Several orders or halves run side by side, one per thread; a thread with no run left takes half the rows of another, so a single run also uses every core.\n");
     Ok(())
 }
 
