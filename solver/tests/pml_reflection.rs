@@ -138,8 +138,14 @@ fn radial_absorber_reflects_less_than_minus_60_db() {
         let db = reflection_db(&a, &b, dt, 8e9, 30e9);
         eprintln!("m = {m}: radial absorber reflection {db:.1} dB");
         // m = 3 at kr ≈ 4 … 16 in this band: near the caustic r = m/k the
-        // field is partly evanescent and the layer absorbs it less well;
-        // measured −53 dB, asserted with a few dB of margin.
+        // field is partly evanescent and the layer absorbs it less well.
+        // Measured −53 dB, the worst at the band's low end (8–10 GHz; above
+        // 12 GHz below −62 dB), asserted with a few dB of margin. The
+        // figure does not move with the grading (order 2–4), the design
+        // reflection (1e-6 … 1e-12) or the shift (0.1 … 2 GHz), but it does
+        // with depth: −59 dB at 24 cells, −63 dB at 32 (measured by hand).
+        // Reaching −60 dB at 16 cells would take a real stretch (κ > 1),
+        // not yet built.
         let limit = if m >= 3 { -50.0 } else { -60.0 };
         assert!(db < limit, "m = {m}: {db:.1} dB");
     }
