@@ -32,8 +32,11 @@ fn pool(threads: usize) -> rayon::ThreadPool {
         .expect("a rayon pool")
 }
 
+/// A run's order, step count and the bits of each mode's (f, Q).
+type Fingerprint = (u32, usize, Vec<(u64, u64)>);
+
 /// Frequencies, Q and step counts of every run, for a bitwise comparison.
-fn fingerprint(runs: &[RunOutput]) -> Vec<(u32, usize, Vec<(u64, u64)>)> {
+fn fingerprint(runs: &[RunOutput]) -> Vec<Fingerprint> {
     runs.iter()
         .map(|r| {
             let modes = r

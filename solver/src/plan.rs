@@ -38,7 +38,7 @@ pub struct RunOptions {
     pub dt_safety: f64,
     /// Length of the recorded signal at the first harmonic-inversion check,
     /// in periods of f_min. Default 20: the stopping rule (see
-    /// [`crate::run`]) then settles every mode of the validation cases at
+    /// [`mod@crate::run`]) then settles every mode of the validation cases at
     /// the second check (30 periods) with the same reported digits as a
     /// first check at 40, for 40 % fewer cell updates
     /// (solver/benches/RESULTS.md); a case that needs longer simply takes

@@ -126,69 +126,52 @@ fn fused_step_gives_the_bits_of_whole_passes() {
     );
     let pml = |n| OuterWall::Pml(absorber(n));
     let zpml = |n| ZWall::Pml(absorber(n));
-    let cases: Vec<(&str, Grid, Vec<Body>, Walls, Vec<u32>)> = vec![
+    // (name, grid (nr, nz, z0), body, walls (bottom, top, outer), orders)
+    let cases = [
         (
             "PMC floor, absorbers top and outer",
             grid(52, 47, 0.0),
-            vec![puck.clone()],
-            Walls {
-                bottom: ZWall::Pmc,
-                top: zpml(12),
-                outer: pml(12),
-            },
-            vec![0, 1, 2],
+            &puck,
+            (ZWall::Pmc, zpml(12), pml(12)),
+            &[0, 1, 2][..],
         ),
         (
             "absorbers on all three walls",
             grid(48, 61, -6.1e-3),
-            vec![puck.clone()],
-            Walls {
-                bottom: zpml(10),
-                top: zpml(10),
-                outer: pml(10),
-            },
-            vec![1],
+            &puck,
+            (zpml(10), zpml(10), pml(10)),
+            &[1],
         ),
         (
             "overlapping z layers",
             grid(30, 20, -2.0e-3),
-            vec![puck.clone()],
-            Walls {
-                bottom: zpml(12),
-                top: zpml(12),
-                outer: OuterWall::Pec,
-            },
-            vec![0, 1],
+            &puck,
+            (zpml(12), zpml(12), OuterWall::Pec),
+            &[0, 1],
         ),
         (
             "outer absorber only",
             grid(44, 33, 0.0),
-            vec![puck.clone()],
-            Walls {
-                bottom: ZWall::Pec,
-                top: ZWall::Pmc,
-                outer: pml(14),
-            },
-            vec![1, 3],
+            &puck,
+            (ZWall::Pec, ZWall::Pmc, pml(14)),
+            &[1, 3],
         ),
         (
             "curved faces inside the absorbers",
             grid(56, 56, 0.0),
-            vec![ball],
-            Walls {
-                bottom: ZWall::Pec,
-                top: zpml(12),
-                outer: pml(12),
-            },
-            vec![0, 1],
+            &ball,
+            (ZWall::Pec, zpml(12), pml(12)),
+            &[0, 1],
         ),
     ];
-    for (name, g, bodies, walls, ms) in &cases {
+    for (name, g, body, (bottom, top, outer), ms) in cases {
+        let walls = Walls { bottom, top, outer };
+        let bodies = std::slice::from_ref(body);
         for &m in ms {
             let what = format!("{name}, m = {m}");
-            let passes = advance(g, bodies, walls, m, 60, false, 1);
+            let passes = advance(&g, bodies, &walls, m, 60, false, 1);
             for threads in [1, 2] {
-                let fused = advance(g, bodies, walls, m, 60, true, threads);
+                let fused = advance(&g, bodies, &walls, m, 60, true, threads);
                 assert_same_bits(&passes, &fused, &format!("{what}, {threads} thread(s)"));
             }
         }

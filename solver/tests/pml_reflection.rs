@@ -10,7 +10,7 @@
 //! the band the pulse fills, for m = 0, 1 and 3.
 use lathe_mesh::{fill, Component, FillOptions, Grid};
 use lathe_solver::coefficients::Coefficients;
-use lathe_solver::kernel::{update_e, update_h};
+use lathe_solver::kernel::step;
 use lathe_solver::pml::Pml;
 use lathe_solver::{stability_limit, Absorber, Fields, OuterWall, Walls, ZWall};
 use std::f64::consts::PI;
@@ -49,14 +49,9 @@ fn probe_history(
     let (pi, pj) = ((at.0 / CELL) as usize, (at.1 / CELL) as usize);
     let mut out = Vec::with_capacity(steps);
     for n in 0..steps {
-        update_h(&mut f, &c);
-        if let Some(p) = pml.as_mut() {
-            p.correct_h(&mut f, &c);
-        }
-        update_e(&mut f, &c);
-        if let Some(p) = pml.as_mut() {
-            p.correct_e(&mut f, &c);
-        }
+        // The step as a run takes it (same bits as whole passes:
+        // tests/fused_step.rs).
+        step(&mut f, &c, pml.as_mut());
         let s = src((n as f64 + 0.5) * dt);
         let k = si * nz + sj;
         f.ez[k] -= c.cb(Component::Ez)[k] * s;
