@@ -196,6 +196,13 @@ fn knee(rows: &[Row], t: usize) -> Option<&Row> {
         .find(|r| r.ns_per_cell(t) > KNEE * b)
 }
 
+/// The minor decade ticks 2…9 × 10^k, unless decade k is the axis' last.
+fn minor(k: i32, last: f64) -> impl Iterator<Item = f64> {
+    (2..10)
+        .filter(move |_| k < last as i32)
+        .map(move |m| m as f64 * 10f64.powi(k))
+}
+
 fn csv(rows: &[Row]) -> String {
     let mut s = String::from(
         "cells,nr,nz,absorber_share,working_set_bytes,steps_1t,steps_2t,\
@@ -275,16 +282,10 @@ fn svg(rows: &[Row], l2: Option<usize>, l3: Option<usize>) -> String {
             bottom + 22.0
         )
         .unwrap();
-        for m in 2..10 {
-            if k < x1 as i32 {
-                let x = px(m as f64 * 10f64.powi(k));
-                writeln!(
-                    s,
-                    "<line x1=\"{x:.1}\" y1=\"{bottom}\" x2=\"{x:.1}\" y2=\"{:.1}\" stroke=\"black\"/>",
-                    bottom + 3.0
-                )
-                .unwrap();
-            }
+        for x in minor(k, x1).map(px) {
+            let y2 = bottom + 3.0;
+            let tick = format!("x1=\"{x:.1}\" y1=\"{bottom}\" x2=\"{x:.1}\" y2=\"{y2:.1}\"");
+            writeln!(s, "<line {tick} stroke=\"black\"/>").unwrap();
         }
     }
     for k in y0 as i32..=y1 as i32 {
@@ -300,16 +301,10 @@ fn svg(rows: &[Row], l2: Option<usize>, l3: Option<usize>) -> String {
             y + 4.0
         )
         .unwrap();
-        for m in 2..10 {
-            if k < y1 as i32 {
-                let y = py(m as f64 * 10f64.powi(k));
-                writeln!(
-                    s,
-                    "<line x1=\"{:.1}\" y1=\"{y:.1}\" x2=\"{left}\" y2=\"{y:.1}\" stroke=\"black\"/>",
-                    left - 3.0
-                )
-                .unwrap();
-            }
+        for y in minor(k, y1).map(py) {
+            let x1 = left - 3.0;
+            let tick = format!("x1=\"{x1:.1}\" y1=\"{y:.1}\" x2=\"{left}\" y2=\"{y:.1}\"");
+            writeln!(s, "<line {tick} stroke=\"black\"/>").unwrap();
         }
     }
     writeln!(
