@@ -254,23 +254,33 @@ pub fn plan_text(
     }
     if measure {
         if let Some((pr, p)) = plans.iter().max_by_key(|(pr, _)| pr.materials.grid.cells()) {
-            let rate = lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25);
             let g = &pr.materials.grid;
-            // Small grids step one run per thread; larger ones split their
-            // rows over the pool (then the timed rate is already the pool's).
-            let runs_in_parallel = if pr.options.splits_rows(g.cells()) {
-                1
+            // Several runs at once step one per thread (a thread that runs
+            // out of runs helps the others only at the end): time one
+            // thread and count one per run stepping at once. A single run
+            // splits its rows over the pool: time the pool.
+            let (rate, threads, runs_in_parallel) = if concurrent > 1 {
+                let one = rayon::ThreadPoolBuilder::new().num_threads(1).build();
+                let rate = match one {
+                    Ok(pool) => {
+                        pool.install(|| lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25))
+                    }
+                    Err(_) => lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25),
+                };
+                (rate, 1, concurrent)
             } else {
-                concurrent
+                let rate = lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25);
+                (rate, rayon::current_num_threads(), 1)
             };
             let seconds = |n: u64| n as f64 / (rate * runs_in_parallel as f64);
             let _ = writeln!(
                 s,
-                "machine     {:.3e} cell updates/s per run on the {} × {} grid ({} thread(s); timed just now)",
+                "machine     {:.3e} cell updates/s per run on the {} × {} grid ({} thread(s) per run, {} run(s) at once; timed just now)",
                 rate,
                 g.nr,
                 g.nz,
-                rayon::current_num_threads()
+                threads,
+                runs_in_parallel
             );
             let _ = writeln!(
                 s,
