@@ -149,26 +149,21 @@ f_max = 8.0
     ))
 }
 
-#[test]
-fn benchmark_cylinder_modes_are_found_labelled_and_match_the_published_table() {
-    // The whole isolated cylinder, absorbers above and below: lathe solves it
-    // as two halves (PEC and PMC mid-plane) and labels both together.
-    // (label, f GHz, Q): Kajfez, Glisson & James 1984, from memory. TE01δ is
-    // checked in f only: our value (4.857 GHz, Q 40.8) is converged in cell
-    // and region size and the same code path reproduces the exact TE1 sphere
-    // mode to 0.03 % in f and 0.1 % in Q, so we report the 11 % Q difference
-    // to the recalled 45.8 as unexplained (validation/REPORT.md).
-    let table = lathe::reference::BENCHMARK_CYLINDER;
-    let s = scenario(
+/// The whole isolated benchmark cylinder in a region ±`r` mm, absorbers all
+/// round, orders 0–2, with extra `[region]` and `[boundary]` lines.
+fn whole_cylinder(r: f64, region: &str, boundary: &str) -> Scenario {
+    scenario(&format!(
         r#"
 [region]
-radius = 16.0
-z_min = -16.0
-z_max = 16.0
+radius = {r}
+z_min = -{r}
+z_max = {r}
+{region}
 [boundary]
 outer = "pml"
 bottom = "pml"
 top = "pml"
+{boundary}
 [[body]]
 shape = "cylinder"
 radius = 5.25
@@ -179,8 +174,21 @@ eps_r = 38.0
 m = [0, 1, 2]
 f_min = 4.0
 f_max = 8.0
-"#,
-    );
+"#
+    ))
+}
+
+#[test]
+fn benchmark_cylinder_modes_are_found_labelled_and_match_the_published_table() {
+    // The whole isolated cylinder, absorbers above and below: lathe solves it
+    // as two halves (PEC and PMC mid-plane) and labels both together.
+    // (label, f GHz, Q): Kajfez, Glisson & James 1984, from memory. TE01δ is
+    // checked in f only: our value (4.857 GHz, Q 40.8) is converged in cell
+    // and region size and the same code path reproduces the exact TE1 sphere
+    // mode to 0.03 % in f and 0.1 % in Q, so we report the 11 % Q difference
+    // to the recalled 45.8 as unexplained (validation/REPORT.md).
+    let table = lathe::reference::BENCHMARK_CYLINDER;
+    let s = whole_cylinder(16.0, "", "");
     let study = run_study(&s).unwrap();
     assert_eq!(study.runs.len(), 6, "expected two halves × three orders");
     let modes = study.modes();
@@ -229,30 +237,7 @@ fn benchmark_cylinder_five_modes_in_half_a_billion_cell_updates() {
         ("TM01δ", 7.5310, 77.22),
         ("HEM21δ", 7.7544, 337.56),
     ];
-    let s = scenario(
-        r#"
-[region]
-radius = 12.0
-z_min = -12.0
-z_max = 12.0
-cells_per_wavelength = 20
-[boundary]
-outer = "pml"
-bottom = "pml"
-top = "pml"
-pml_cells = 12
-[[body]]
-shape = "cylinder"
-radius = 5.25
-height = 4.6
-base = -2.3
-eps_r = 38.0
-[search]
-m = [0, 1, 2]
-f_min = 4.0
-f_max = 8.0
-"#,
-    );
+    let s = whole_cylinder(12.0, "cells_per_wavelength = 20", "pml_cells = 12");
     let study = run_study(&s).unwrap();
     let work: u64 = study
         .runs
