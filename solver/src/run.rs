@@ -123,19 +123,12 @@ pub fn solve_with(
     // ∝ 1/Δt, ranks them. Results go back into the order of `ms`.
     let mut order: Vec<usize> = (0..plans.len()).collect();
     order.sort_by(|&a, &b| plans[a].dt.total_cmp(&plans[b].dt));
-    let done: Vec<(usize, Result<RunOutput, SolverError>)> = order
+    let mut done: Vec<(usize, Result<RunOutput, SolverError>)> = order
         .par_iter()
         .map(|&k| (k, run_with(problem, &plans[k], progress)))
         .collect();
-    let mut results: Vec<Option<Result<RunOutput, SolverError>>> =
-        (0..plans.len()).map(|_| None).collect();
-    for (k, r) in done {
-        results[k] = Some(r);
-    }
-    let mut runs: Vec<RunOutput> = results
-        .into_iter()
-        .map(|r| r.expect("every order was run"))
-        .collect::<Result<_, _>>()?;
+    done.sort_by_key(|(k, _)| *k);
+    let mut runs: Vec<RunOutput> = done.into_iter().map(|(_, r)| r).collect::<Result<_, _>>()?;
     label_runs(&mut runs.iter_mut().collect::<Vec<_>>());
     Ok(runs)
 }

@@ -18,16 +18,15 @@ use std::time::Instant;
 const MM: f64 = 1e-3;
 const GHZ: f64 = 1e9;
 
-/// The upper half of the isolated ε_r 38 benchmark cylinder of
-/// tests/open_resonator.rs (radius 5.25 mm, half height 2.3 mm on a PMC
-/// mid-plane, region 16 mm × 16 mm, band 4–8 GHz) at the default
-/// resolution (30 cells per wavelength in the dielectric at f_max), with
-/// the default 16-cell absorbers on the outer radius and the top, added
-/// beyond the region as the scenario reader does. 95 × 95 cells.
-pub fn benchmark_half(bottom: ZWall) -> Problem {
+/// An ε_r 38 body on the z = 0 plane (`bottom`) in a square region of
+/// `side` metres, band 4–8 GHz, at the default resolution (30 cells per
+/// wavelength in the dielectric at f_max), with the default 16-cell
+/// absorbers on the outer radius and the top, added beyond the region as
+/// the scenario reader does.
+fn open_eps38(side: f64, shape: Shape, bottom: ZWall) -> Problem {
     let (f_min, f_max, eps) = (4.0 * GHZ, 8.0 * GHZ, 38.0);
     let cell = C0 / (f_max * f64::sqrt(eps)) / 30.0;
-    let region = Grid::new(16.0 * MM, 0.0, 16.0 * MM, cell).unwrap();
+    let region = Grid::new(side, 0.0, side, cell).unwrap();
     let absorber = Absorber::default_for(f_min);
     let n = absorber.cells;
     let grid = Grid {
@@ -35,19 +34,15 @@ pub fn benchmark_half(bottom: ZWall) -> Problem {
         nz: region.nz + n,
         ..region
     };
-    let cylinder = Body {
-        shape: Shape::Cylinder {
-            radius: 5.25 * MM,
-            height: 2.3 * MM,
-            base: 0.0,
-        },
+    let body = Body {
+        shape,
         material: Material::Dielectric {
             eps_r: eps,
             loss_tangent: 0.0,
         },
     };
     Problem {
-        materials: fill(&grid, &[cylinder], FillOptions::default()),
+        materials: fill(&grid, &[body], FillOptions::default()),
         walls: Walls {
             bottom,
             top: ZWall::Pml(absorber),
@@ -59,42 +54,29 @@ pub fn benchmark_half(bottom: ZWall) -> Problem {
     }
 }
 
+/// The upper half of the isolated ε_r 38 benchmark cylinder of
+/// tests/open_resonator.rs (radius 5.25 mm, half height 2.3 mm on the
+/// mid-plane `bottom`, region 16 mm × 16 mm; see [`open_eps38`]). 95 × 95
+/// cells.
+pub fn benchmark_half(bottom: ZWall) -> Problem {
+    let cylinder = Shape::Cylinder {
+        radius: 5.25 * MM,
+        height: 2.3 * MM,
+        base: 0.0,
+    };
+    open_eps38(16.0 * MM, cylinder, bottom)
+}
+
 /// The dielectric sphere of tests/open_resonator.rs (ε_r 38, radius
-/// 4.7 mm) on a PEC plane through its centre, region 14 mm × 14 mm, band
-/// 4–8 GHz, default resolution and absorbers: a curved surface, so the
-/// off-diagonal permittivity coupling is active.
+/// 4.7 mm) on a PEC plane through its centre, region 14 mm × 14 mm (see
+/// [`open_eps38`]): a curved surface, so the off-diagonal permittivity
+/// coupling is active.
 pub fn sphere_half() -> Problem {
-    let (f_min, f_max, eps) = (4.0 * GHZ, 8.0 * GHZ, 38.0);
-    let cell = C0 / (f_max * f64::sqrt(eps)) / 30.0;
-    let region = Grid::new(14.0 * MM, 0.0, 14.0 * MM, cell).unwrap();
-    let absorber = Absorber::default_for(f_min);
-    let n = absorber.cells;
-    let grid = Grid {
-        nr: region.nr + n,
-        nz: region.nz + n,
-        ..region
+    let sphere = Shape::Sphere {
+        radius: 4.7 * MM,
+        center: 0.0,
     };
-    let sphere = Body {
-        shape: Shape::Sphere {
-            radius: 4.7 * MM,
-            center: 0.0,
-        },
-        material: Material::Dielectric {
-            eps_r: eps,
-            loss_tangent: 0.0,
-        },
-    };
-    Problem {
-        materials: fill(&grid, &[sphere], FillOptions::default()),
-        walls: Walls {
-            bottom: ZWall::Pec,
-            top: ZWall::Pml(absorber),
-            outer: OuterWall::Pml(absorber),
-        },
-        f_min,
-        f_max,
-        options: RunOptions::default(),
-    }
+    open_eps38(14.0 * MM, sphere, ZWall::Pec)
 }
 
 /// A closed can of `nr × nz` cells of 0.1 mm (PEC bottom and outer wall,
