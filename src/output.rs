@@ -425,18 +425,35 @@ pub fn refined_table(r: &crate::refine::Refined) -> String {
             m.freq_err_hz / 1e9,
             q,
             m.q_err,
-            m.order_f.map_or("—".to_string(), |p| format!("{p:.2}"))
+            m.order_f.map_or("—".to_string(), |p| format!(
+                "{p:.2}{}",
+                if m.asymptotic_f { " " } else { "*" }
+            ))
         ));
         if halves {
             s.push_str(&format!("  {}", plane_name(m.plane)));
         }
         s.push('\n');
     }
+    let lo = crate::refine::ASYMPTOTIC_ORDERS.start();
+    let hi = crate::refine::ASYMPTOTIC_ORDERS.end();
+    if r.modes
+        .iter()
+        .any(|m| m.order_f.is_some() && !m.asymptotic_f)
+    {
+        s.push_str(&format!(
+            "  * observed order outside {lo}–{hi}: f extrapolated at order {} with safety factor 3\n",
+            crate::refine::FORMAL_ORDER
+        ));
+    }
     s
 }
 
 /// The JSON document of a refined study: the modes carry the extrapolated
-/// `freq_hz` and `q` with `freq_err_hz` and `q_err`; `runs` lists the runs
+/// `freq_hz` and `q` with `freq_err_hz` and `q_err`, the three grids'
+/// values (`freq_hz_grids`, `q_grids`, coarse first) and whether each
+/// observed order was in the asymptotic range (`asymptotic_f`,
+/// `asymptotic_q`; see `lathe::refine`); `runs` lists the runs
 /// of all three grids (`grid` 0 = coarsest).
 pub fn refined_json(r: &crate::refine::Refined) -> Value {
     let modes: Vec<Value> = r
@@ -452,6 +469,10 @@ pub fn refined_json(r: &crate::refine::Refined) -> Value {
                 "q_err": m.q_err,
                 "q_is_lower_bound": m.finest.q_is_lower_bound,
                 "order_f": m.order_f,
+                "asymptotic_f": m.asymptotic_f,
+                "asymptotic_q": m.asymptotic_q,
+                "freq_hz_grids": m.freq_hz_grids,
+                "q_grids": m.q_grids,
                 "freq_hz_finest": m.finest.freq_hz,
                 "q_finest": m.finest.q,
                 "error": m.finest.error,

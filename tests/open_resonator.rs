@@ -119,6 +119,78 @@ fn sphere_and_hemisphere_modes_match_the_exact_resonances() {
     assert!(checked >= 12, "only {checked} modes checked");
 }
 
+#[test]
+fn refined_sphere_and_hemisphere_modes_match_the_exact_resonances_closer() {
+    // `--refine` on the same cases: the issue's figures with refinement,
+    // f within 0.1 % and Q within 1 % of the exact roots (Stratton 1941;
+    // Gastine, Courtois & Dormann 1967). The stated uncertainties estimate
+    // the grid's error only (the region's and the absorber's are not in
+    // them: TE1's Q is +0.37 % on all three grids), so they are printed,
+    // not held against the exact value; tests/closed_cavity.rs checks them
+    // where the grid is the only error.
+    let mut checked = 0;
+    for (eps, band) in [(38.0, (4.0, 8.0)), (10.0, (7.0, 15.0))] {
+        for wall in ["pec", "pmc"] {
+            let s = sphere_case(eps, wall, band);
+            let r = lathe::refine::refine(&s).unwrap();
+            for (fam, n) in [
+                (SphereFamily::Te, 1),
+                (SphereFamily::Tm, 1),
+                (SphereFamily::Te, 2),
+            ] {
+                let x = sphere_mode(fam, n, eps, 4.7e-3).unwrap();
+                for &m in &s.m {
+                    if m > n || x.survives_pec_plane(m) != (wall == "pec") || x.freq_hz > s.f_max {
+                        continue;
+                    }
+                    let got = r
+                        .modes
+                        .iter()
+                        .filter(|g| g.finest.m == m)
+                        .min_by(|a, b| {
+                            (a.freq_hz - x.freq_hz)
+                                .abs()
+                                .total_cmp(&(b.freq_hz - x.freq_hz).abs())
+                        })
+                        .unwrap_or_else(|| panic!("ε {eps} {wall} m {m} {}: missing", x.label()));
+                    let df = got.freq_hz / x.freq_hz - 1.0;
+                    let dq = got.q / x.q - 1.0;
+                    eprintln!(
+                        "ε {eps} {wall} m = {m} {}: f {:+.4} % ± {:.4} % (finest {:+.4} %, order {:.2?}{}), \
+                         Q {:+.3} % ± {:.3} % (finest {:+.3} %{}) grids f {:?} Q {:?}",
+                        x.label(),
+                        100.0 * df,
+                        100.0 * got.freq_err_hz / x.freq_hz,
+                        100.0 * (got.finest.freq_hz / x.freq_hz - 1.0),
+                        got.order_f,
+                        if got.asymptotic_f { "" } else { ", formal" },
+                        100.0 * dq,
+                        100.0 * got.q_err / x.q,
+                        100.0 * (got.finest.q / x.q - 1.0),
+                        if got.asymptotic_q { "" } else { ", formal" },
+                        got.freq_hz_grids,
+                        got.q_grids,
+                    );
+                    assert!(
+                        df.abs() < 1e-3,
+                        "ε {eps} {wall} m {m} {}: f off {:.4} %",
+                        x.label(),
+                        100.0 * df
+                    );
+                    assert!(
+                        dq.abs() < 1e-2,
+                        "ε {eps} {wall} m {m} {}: Q off {:.3} %",
+                        x.label(),
+                        100.0 * dq
+                    );
+                    checked += 1;
+                }
+            }
+        }
+    }
+    assert!(checked >= 12, "only {checked} modes checked");
+}
+
 fn benchmark_cylinder(wall: &str, extra_region: f64, pml_cells: Option<u32>, ms: &str) -> Scenario {
     let r = 16.0 + extra_region;
     let cells = pml_cells
