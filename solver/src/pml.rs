@@ -61,7 +61,8 @@
 //!
 //! # Storage
 //! Every ψ is stored by grid row with `j` contiguous: the z layers keep, per
-//! row, the columns where their σ is non-zero (bottom layer first), the radial
+//! row, the columns where their σ is non-zero, widened into the interior to
+//! a whole number of vector lanes (bottom layer first), the radial
 //! layer whole rows of its own rows. Each row's corrections are then loops
 //! over contiguous slices, like the bulk update. The stretching is a property of the
 //! coordinates, not of the material, so bodies may run into the layer (a
@@ -225,6 +226,29 @@ fn segment(a: &[f64], range: std::ops::Range<usize>, off: usize) -> Option<Segme
     })
 }
 
+/// Columns a z layer's loops take at once: the eight lanes of a 512-bit
+/// vector of f64 (two of a 256-bit one).
+const LANES: usize = 8;
+
+/// `s` widened toward the interior (upward for the bottom layer) over
+/// columns within `allowed` where `a` is zero, until its length is a
+/// multiple of [`LANES`] or no such column is left: the loops over a layer's
+/// columns then run in whole vectors, without a scalar remainder. On an
+/// added column b = a = 0, so its ψ stays zero and the field gains s·0
+/// (which changes at most the sign of a field that is exactly zero).
+fn widen(mut s: Segment, a: &[f64], allowed: std::ops::Range<usize>, at_bottom: bool) -> Segment {
+    while (s.hi - s.lo) % LANES != 0 {
+        if at_bottom && s.hi < allowed.end && a[s.hi] == 0.0 {
+            s.hi += 1;
+        } else if !at_bottom && s.lo > allowed.start && a[s.lo - 1] == 0.0 {
+            s.lo -= 1;
+        } else {
+            break;
+        }
+    }
+    s
+}
+
 impl Pml {
     /// The absorbers of `walls` on `grid` for time step `dt`, or `None` when
     /// no wall absorbs.
@@ -356,11 +380,13 @@ impl Pml {
                 (nz - c..nz + 1, nz - c..nz)
             };
             if let Some(s) = segment(&za_half, halves, wh) {
+                let s = widen(s, &za_half, 0..nz, at_bottom);
                 wh += s.hi - s.lo;
                 zh.push(s);
             }
             let ints = ints.start.max(1)..ints.end.min(nz);
             if let Some(s) = segment(&za_int, ints, we) {
+                let s = widen(s, &za_int, 1..nz, at_bottom);
                 we += s.hi - s.lo;
                 ze.push(s);
             }
@@ -526,8 +552,9 @@ impl PmlParams {
         if i < l.first {
             return;
         }
-        // μ ∂t h_r ∋ (m/r) e_z, stretched by 1/s̄.
-        if let Some(hr) = hr {
+        // μ ∂t h_r ∋ (m/r) e_z, stretched by 1/s̄ (nothing for m = 0: its ψ
+        // stays zero).
+        if let (Some(hr), true) = (hr, c.m != 0) {
             let (b, a) = l.bar_int[i];
             if a != 0.0 {
                 let p = psi.hr_bar.row(i).expect("a radial row");
@@ -611,9 +638,9 @@ impl PmlParams {
         if i < l.first {
             return;
         }
-        // ε ∂t e_r ∋ (m/r) h_z, stretched by 1/s̄.
+        // ε ∂t e_r ∋ (m/r) h_z, stretched by 1/s̄ (nothing for m = 0).
         let (bb, ab) = l.bar_half[i];
-        if ab != 0.0 {
+        if ab != 0.0 && c.m != 0 {
             let p = psi.er_bar.row(i).expect("a radial row");
             scaled::<&[f64], false>(&mut er[..nj1], p, hz, c.m_over_r_half[i], bb, ab, cbr);
         }
@@ -725,9 +752,11 @@ fn diff<S: ByEntry, F: ByEntry, const NEG: bool>(
 
 /// [`diff`] on two fields at once over the same z-layer span (same b, a):
 /// u ∓ s·ψ_u with X_u = (w1 − w0)·k, then v ∓ t·ψ_v with X_v = (v1 − v0)·k
-/// (− when `NEGU`, `NEGV`).
+/// (− when `NEGU`, `NEGV`). Inlined into the row's terms: one call per row
+/// and half step cost more than its two vectors of arithmetic
+/// (solver/benches/RESULTS.md).
 #[allow(clippy::too_many_arguments)]
-#[inline(never)]
+#[inline(always)]
 fn diff2<S: ByEntry, const NEGU: bool, const NEGV: bool>(
     u: &mut [f64],
     pu: &mut [f64],
@@ -890,5 +919,37 @@ fn bar<S: ByEntry, const NEG: bool, const NEGT: bool>(
         } else {
             u[j] += s.at(j) * p;
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn widened_spans_cover_whole_lanes_and_only_columns_outside_the_layers() {
+        // A 40-column profile: bottom layer on 1..=15, top layer on 25..=38
+        // (the PEC ends 0 and 40 held).
+        let mut a = vec![0.0; 41];
+        a[1..16].fill(-1.0);
+        a[25..39].fill(-1.0);
+        let bottom = segment(&a, 1..17, 0).unwrap();
+        assert_eq!((bottom.lo, bottom.hi), (1, 16));
+        let w = widen(bottom, &a, 1..40, true);
+        assert_eq!((w.lo, w.hi), (1, 17)); // 16 columns: grown upward by one
+        let top = segment(&a, 20..40, 0).unwrap();
+        assert_eq!((top.lo, top.hi), (25, 39));
+        let w = widen(top, &a, 1..40, false);
+        assert_eq!((w.lo, w.hi), (23, 39)); // 16 columns: grown downward by two
+                                            // Close layers: the bottom span may not grow into the top layer's
+                                            // columns (they would take its correction twice).
+        let mut b = vec![-1.0; 21];
+        b[0] = 0.0;
+        b[20] = 0.0;
+        b[10] = 0.0;
+        let s = segment(&b, 1..10, 0).unwrap();
+        let w = widen(s, &b, 1..20, true);
+        assert_eq!((w.lo, w.hi), (1, 11)); // stops before column 11 (a ≠ 0)
+        assert!(w.hi <= 11 && (w.lo..w.hi).all(|j| j < 10 || b[j] == 0.0));
     }
 }
