@@ -236,29 +236,6 @@ struct HViews<'a> {
     psi: HPsi<'a>,
 }
 
-impl SplitRows for HViews<'_> {
-    fn split_at(self, i: usize) -> (Self, Self) {
-        let (hr0, hr1) = self.hr.split_at(i);
-        let (hp0, hp1) = self.hphi.split_at(i);
-        let (hz0, hz1) = self.hz.split_at(i);
-        let (p0, p1) = self.psi.split_at(i);
-        (
-            HViews {
-                hr: hr0,
-                hphi: hp0,
-                hz: hz0,
-                psi: p0,
-            },
-            HViews {
-                hr: hr1,
-                hphi: hp1,
-                hz: hz1,
-                psi: p1,
-            },
-        )
-    }
-}
-
 /// The electric rows of one half step and their auxiliary fields.
 struct EViews<'a> {
     er: Rows<'a>,
@@ -267,28 +244,20 @@ struct EViews<'a> {
     psi: EPsi<'a>,
 }
 
-impl SplitRows for EViews<'_> {
-    fn split_at(self, i: usize) -> (Self, Self) {
-        let (er0, er1) = self.er.split_at(i);
-        let (ep0, ep1) = self.ephi.split_at(i);
-        let (ez0, ez1) = self.ez.split_at(i);
-        let (p0, p1) = self.psi.split_at(i);
-        (
-            EViews {
-                er: er0,
-                ephi: ep0,
-                ez: ez0,
-                psi: p0,
-            },
-            EViews {
-                er: er1,
-                ephi: ep1,
-                ez: ez1,
-                psi: p1,
-            },
-        )
-    }
+/// Splits a half step's views by row: every field's rows and the auxiliary
+/// fields' rows at the same row.
+macro_rules! split_views {
+    ($t:ident, $($f:ident),*) => {
+        impl SplitRows for $t<'_> {
+            fn split_at(self, i: usize) -> (Self, Self) {
+                $(let $f = self.$f.split_at(i);)*
+                ($t { $($f: $f.0),* }, $t { $($f: $f.1),* })
+            }
+        }
+    };
 }
+split_views!(HViews, hr, hphi, hz, psi);
+split_views!(EViews, er, ephi, ez, psi);
 
 /// The electric field, read-only, for the H half step.
 pub(crate) struct EFields<'a> {
