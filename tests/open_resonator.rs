@@ -258,9 +258,10 @@ fn benchmark_cylinder_modes_are_found_labelled_and_match_the_published_table() {
     // checked in f only: our value (4.857 GHz, Q 40.8) is converged in cell
     // and region size and the same code path reproduces the exact TE1 sphere
     // mode to 0.03 % in f and 0.1 % in Q; an independent frequency-domain
-    // eigen-solver (solver/tests/te0_eigen.rs) agrees with it within 0.05 %
-    // in f and 1 % in Q. So we report the 11 % Q difference to the recalled
-    // 45.8 as a likely slip of memory, to be re-read (validation/REPORT.md).
+    // eigen-solver (solver/tests/m0_eigen.rs) agrees with it within 0.05 %
+    // in f and 1 % in Q, and matches the recalled TM01δ of the same table.
+    // So we report the 11 % Q difference to the recalled 45.8 as a likely
+    // slip of memory, to be re-read (validation/REPORT.md).
     let table = lathe::reference::BENCHMARK_CYLINDER;
     let s = whole_cylinder(16.0, "", "");
     let study = run_study(&s).unwrap();
