@@ -17,7 +17,7 @@
 //!   < 0.05 % in f, < 0.5 % in Q.
 use lathe::reference::match_modes;
 use lathe::scenario::Scenario;
-use lathe::solver::exact::{sphere_mode, SphereFamily};
+use lathe::solver::exact::{sphere_mode, SphereFamily, SphereMode};
 use lathe::solver::{solve, Mode};
 use lathe::study::run_study;
 
@@ -58,6 +58,21 @@ f_max = {}
     ))
 }
 
+/// The exact TE1, TM1 and TE2 modes of the 4.7 mm sphere (Stratton 1941;
+/// Gastine, Courtois & Dormann 1967; `lathe_solver::exact::sphere`) of
+/// order `m` on the `wall` plane, below `f_max`.
+fn exact_sphere_modes(eps: f64, wall: &str, m: u32, f_max: f64) -> Vec<SphereMode> {
+    [
+        (SphereFamily::Te, 1),
+        (SphereFamily::Tm, 1),
+        (SphereFamily::Te, 2),
+    ]
+    .into_iter()
+    .map(|(fam, n)| sphere_mode(fam, n, eps, 4.7e-3).unwrap())
+    .filter(|x| m <= x.n && x.survives_pec_plane(m) == (wall == "pec") && x.freq_hz < f_max)
+    .collect()
+}
+
 #[test]
 fn sphere_and_hemisphere_modes_match_the_exact_resonances() {
     // Tolerances: f 0.5 %, Q 3 % at the default resolution (the issue's
@@ -69,18 +84,10 @@ fn sphere_and_hemisphere_modes_match_the_exact_resonances() {
             let s = sphere_case(eps, wall, band);
             let runs = modes_of(&s);
             for (k, m) in s.m.iter().enumerate() {
-                let mut expected = Vec::new();
-                for (fam, n) in [
-                    (SphereFamily::Te, 1),
-                    (SphereFamily::Tm, 1),
-                    (SphereFamily::Te, 2),
-                ] {
-                    let x = sphere_mode(fam, n, eps, 4.7e-3).unwrap();
-                    let on_pec = x.survives_pec_plane(*m);
-                    if *m <= n && on_pec == (wall == "pec") && x.freq_hz < s.f_max {
-                        expected.push((x.label(), x.freq_hz, x.q));
-                    }
-                }
+                let expected: Vec<(String, f64, f64)> = exact_sphere_modes(eps, wall, *m, s.f_max)
+                    .iter()
+                    .map(|x| (x.label(), x.freq_hz, x.q))
+                    .collect();
                 let refs: Vec<(String, f64)> =
                     expected.iter().map(|e| (e.0.clone(), e.1)).collect();
                 let (matched, _) = match_modes(&runs[k], &refs, 0.02);
@@ -133,16 +140,8 @@ fn refined_sphere_and_hemisphere_modes_match_the_exact_resonances_closer() {
         for wall in ["pec", "pmc"] {
             let s = sphere_case(eps, wall, band);
             let r = lathe::refine::refine(&s).unwrap();
-            for (fam, n) in [
-                (SphereFamily::Te, 1),
-                (SphereFamily::Tm, 1),
-                (SphereFamily::Te, 2),
-            ] {
-                let x = sphere_mode(fam, n, eps, 4.7e-3).unwrap();
-                for &m in &s.m {
-                    if m > n || x.survives_pec_plane(m) != (wall == "pec") || x.freq_hz > s.f_max {
-                        continue;
-                    }
+            for &m in &s.m {
+                for x in exact_sphere_modes(eps, wall, m, s.f_max) {
                     let got = r
                         .modes
                         .iter()

@@ -274,6 +274,31 @@ fn load_with_bottom(name: &str, wall: &str) -> Result<Scenario> {
     Scenario::parse(&text, name).map_err(|e| anyhow::anyhow!("{e}"))
 }
 
+/// The exact sphere modes (TE1, TM1, TE2, TM2 of the 4.7 mm sphere) of
+/// order `m` on the `wall` plane inside the scenario's band.
+fn sphere_modes(
+    eps: f64,
+    wall: &str,
+    m: u32,
+    s: &Scenario,
+) -> Vec<lathe::solver::exact::SphereMode> {
+    [
+        (SphereFamily::Te, 1),
+        (SphereFamily::Tm, 1),
+        (SphereFamily::Te, 2),
+        (SphereFamily::Tm, 2),
+    ]
+    .into_iter()
+    .filter_map(|(fam, n)| sphere_mode(fam, n, eps, 4.7e-3))
+    .filter(|x| {
+        m <= x.n
+            && x.survives_pec_plane(m) == (wall == "pec")
+            && x.freq_hz > s.f_min
+            && x.freq_hz < s.f_max
+    })
+    .collect()
+}
+
 /// Sphere (and hemisphere) modes against the exact resonances.
 fn sphere_case(out: &mut String, file: &str, eps: f64, tot: &mut Totals) -> Result<()> {
     writeln!(
@@ -293,23 +318,7 @@ fn sphere_case(out: &mut String, file: &str, eps: f64, tot: &mut Totals) -> Resu
         cost.1 += secs;
         for r in &runs {
             let m = r.report.m;
-            let mut expected = Vec::new();
-            for (fam, n) in [
-                (SphereFamily::Te, 1),
-                (SphereFamily::Tm, 1),
-                (SphereFamily::Te, 2),
-                (SphereFamily::Tm, 2),
-            ] {
-                if let Some(x) = sphere_mode(fam, n, eps, 4.7e-3) {
-                    if m <= n
-                        && x.survives_pec_plane(m) == (wall == "pec")
-                        && x.freq_hz > s.f_min
-                        && x.freq_hz < s.f_max
-                    {
-                        expected.push(x);
-                    }
-                }
-            }
+            let expected = sphere_modes(eps, wall, m, &s);
             let refs: Vec<(String, f64)> =
                 expected.iter().map(|x| (x.label(), x.freq_hz)).collect();
             let (matched, spurious) = match_modes(&r.modes, &refs, 0.02);
@@ -398,23 +407,7 @@ fn refined_sphere_case(out: &mut String, file: &str, eps: f64, tot: &mut Totals)
             .map(|run| run.output.report.cell_updates)
             .sum::<u64>();
         for &m in &s.m {
-            let mut expected = Vec::new();
-            for (fam, n) in [
-                (SphereFamily::Te, 1),
-                (SphereFamily::Tm, 1),
-                (SphereFamily::Te, 2),
-                (SphereFamily::Tm, 2),
-            ] {
-                if let Some(x) = sphere_mode(fam, n, eps, 4.7e-3) {
-                    if m <= n
-                        && x.survives_pec_plane(m) == (wall == "pec")
-                        && x.freq_hz > s.f_min
-                        && x.freq_hz < s.f_max
-                    {
-                        expected.push(x);
-                    }
-                }
-            }
+            let expected = sphere_modes(eps, wall, m, &s);
             let ours: Vec<&lathe::refine::RefinedMode> =
                 r.modes.iter().filter(|x| x.finest.m == m).collect();
             let finest: Vec<_> = ours.iter().map(|x| x.finest.clone()).collect();
