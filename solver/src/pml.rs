@@ -936,13 +936,15 @@ mod tests {
         let bottom = segment(&a, 1..17, 0).unwrap();
         assert_eq!((bottom.lo, bottom.hi), (1, 16));
         let w = widen(bottom, &a, 1..40, true);
-        assert_eq!((w.lo, w.hi), (1, 17)); // 16 columns: grown upward by one
+        // 16 columns: grown upward by one.
+        assert_eq!((w.lo, w.hi), (1, 17));
         let top = segment(&a, 20..40, 0).unwrap();
         assert_eq!((top.lo, top.hi), (25, 39));
         let w = widen(top, &a, 1..40, false);
-        assert_eq!((w.lo, w.hi), (23, 39)); // 16 columns: grown downward by two
-                                            // Close layers: the bottom span may not grow into the top layer's
-                                            // columns (they would take its correction twice).
+        // 16 columns: grown downward by two.
+        assert_eq!((w.lo, w.hi), (23, 39));
+        // Close layers: the bottom span may not grow into the top layer's
+        // columns (they would take its correction twice).
         let mut b = vec![-1.0; 21];
         b[0] = 0.0;
         b[20] = 0.0;
