@@ -311,6 +311,20 @@ fn benchmark_cylinder_five_modes_in_half_a_billion_cell_updates() {
         ("TM01δ", 7.5310, 77.22),
         ("HEM21δ", 7.7544, 337.56),
     ];
+    // And against the two independent frequency-domain eigen-solvers
+    // (solver/tests/m0_eigen.rs for m = 0 at 0.05 and 0.025 mm,
+    // solver/tests/hem_eigen.rs for m ≥ 1 at 0.025 mm; complex scaling,
+    // sparse LU, no time stepping), which the target is held to as well:
+    // they agree with the recalled table in 7 of its 10 figures and
+    // contradict it in TE01δ's Q (40.8 against 45.8), HEM12δ's Q (49.6
+    // against 52.1) and HEM21δ's Q (337 against 327).
+    let independent = [
+        ("TE01δ", 4.8571, 40.82),
+        ("HEM11δ", 6.3404, 30.832),
+        ("HEM12δ", 6.6461, 49.61),
+        ("TM01δ", 7.5333, 76.75),
+        ("HEM21δ", 7.7567, 337.39),
+    ];
     let s = whole_cylinder(12.0, "cells_per_wavelength = 20", "pml_cells = 12");
     let study = run_study(&s).unwrap();
     let work: u64 = study
@@ -326,10 +340,30 @@ fn benchmark_cylinder_five_modes_in_half_a_billion_cell_updates() {
             .iter()
             .find(|(m, _)| m.label == label)
             .unwrap_or_else(|| panic!("{label} not found"));
+        let (_, fi, qi) = independent.iter().find(|x| x.0 == label).unwrap();
         let (df, dq) = (c.freq_hz / (f * 1e9) - 1.0, c.q / q - 1.0);
-        eprintln!("{label}: f {:+.3} %, Q {:+.2} %", 100.0 * df, 100.0 * dq);
-        assert!(df.abs() < 0.005, "{label}: f off {:.3} %", 100.0 * df);
-        assert!(dq.abs() < 0.03, "{label}: Q off {:.2} %", 100.0 * dq);
+        let (dfi, dqi) = (c.freq_hz / (fi * 1e9) - 1.0, c.q / qi - 1.0);
+        eprintln!(
+            "{label}: {:.4} GHz, Q {:.2}; against converged f {:+.3} %, Q {:+.2} %; against the eigen-solvers f {:+.3} %, Q {:+.2} %",
+            c.freq_hz / 1e9,
+            c.q,
+            100.0 * df,
+            100.0 * dq,
+            100.0 * dfi,
+            100.0 * dqi
+        );
+        for (what, df, dq) in [("converged", df, dq), ("eigen-solvers", dfi, dqi)] {
+            assert!(
+                df.abs() < 0.005,
+                "{label} against {what}: f off {:.3} %",
+                100.0 * df
+            );
+            assert!(
+                dq.abs() < 0.03,
+                "{label} against {what}: Q off {:.2} %",
+                100.0 * dq
+            );
+        }
     }
 }
 

@@ -24,55 +24,14 @@
 //! Its error is second order in the cell where faces lie on grid lines.
 //! The solver is first checked against the exact TE1 and TM1 modes of a
 //! sphere.
-use faer::sparse::{SparseColMat, Triplet};
-use faer::{c64, Col};
+mod common;
+
+use common::{
+    cylinder_eps, nearest_resonance, sphere_eps, stretched, A, EPS, HALF_H, LAYER, SPHERE_R,
+};
+use faer::c64;
+use faer::sparse::Triplet;
 use lathe_solver::exact::{sphere_mode, SphereFamily};
-use std::f64::consts::PI;
-
-const C0: f64 = 299_792_458.0;
-const A: f64 = 5.25e-3;
-const HALF_H: f64 = 2.3e-3;
-const EPS: f64 = 38.0;
-
-/// ε_r of the cylinder averaged over [r0, r1] × [z0, z1], r-weighted (the
-/// cylinder is the rectangle r < A, z < HALF_H of the half plane above the
-/// mid-plane): exact.
-fn cylinder_eps(r0: f64, r1: f64, z0: f64, z1: f64) -> f64 {
-    let area = |a: f64, b: f64| 0.5 * (b * b - a * a);
-    let total = area(r0, r1) * (z1 - z0);
-    let (ri, zi) = (r1.min(A).max(r0), z1.min(HALF_H).max(z0));
-    let inside = area(r0, ri) * (zi - z0);
-    (inside * EPS + (total - inside)) / total
-}
-
-/// ε_r of the sphere of radius `SPHERE_R` centred on the mid-plane,
-/// averaged likewise: exact away from the surface, a 128 × 128 midpoint
-/// rule in cells it cuts.
-fn sphere_eps(r0: f64, r1: f64, z0: f64, z1: f64) -> f64 {
-    let inside = |r: f64, z: f64| r * r + z * z < SPHERE_R * SPHERE_R;
-    let far = r1 * r1 + z1 * z1;
-    let near = r0 * r0 + z0 * z0;
-    if far <= SPHERE_R * SPHERE_R {
-        return EPS;
-    }
-    if near >= SPHERE_R * SPHERE_R {
-        return 1.0;
-    }
-    let n = 128;
-    let (dr, dz) = ((r1 - r0) / n as f64, (z1 - z0) / n as f64);
-    let (mut w, mut we) = (0.0, 0.0);
-    for a in 0..n {
-        let r = r0 + (a as f64 + 0.5) * dr;
-        for b in 0..n {
-            let z = z0 + (b as f64 + 0.5) * dz;
-            w += r;
-            we += r * if inside(r, z) { EPS } else { 1.0 };
-        }
-    }
-    we / w
-}
-
-const SPHERE_R: f64 = 4.7e-3;
 
 /// Mean of 1/ε_r of the cylinder along z ∈ [z0, z1] at radius r: exact.
 fn cylinder_inv_along_z(r: f64, z0: f64, z1: f64) -> f64 {
@@ -123,13 +82,6 @@ fn sphere_inv_along_r(z: f64, r0: f64, r1: f64) -> f64 {
     sphere_inv((r0.max(0.0), z), (r1, z))
 }
 
-/// Stretched coordinate at `x` for a layer from `x0` of depth `d`:
-/// x − j·βmax·d·((x − x0)/d)³/3.
-fn stretched(x: f64, x0: f64, d: f64, beta: f64) -> c64 {
-    let t = ((x - x0) / d).max(0.0);
-    c64::new(x, -beta * d * t * t * t / 3.0)
-}
-
 /// The TE resonance nearest `f_guess` on cells of `h` for the permittivity
 /// `eps_of` (its mean over a rectangle); see [`resonance`]. Returns (f, Q).
 fn te0_resonance(h: f64, f_guess: f64, eps_of: fn(f64, f64, f64, f64) -> f64) -> (f64, f64) {
@@ -152,15 +104,11 @@ enum Medium {
 /// normal to a z face, E_r normal to an r face), the mass is 1, H_φ = 0 on
 /// the axis and the outer ends, ∂H_φ/∂z = 0 on a PEC mid-plane.
 ///
-/// The scaling starts at r0 = 9 mm and z0 = 7 mm and runs over 6 mm
-/// (β_max 60: the field falls by e^{−k0·Im r̃} ≈ e^{−12} at the end).
-/// Moving the layer out to 12 and 10 mm, or in to 7 and 5 mm, deepening it
-/// to 9 mm, or taking β_max 30 or 120 changed f by less than 3e-6 and Q by
-/// less than 2e-4 on either grid (TE01δ, measured by hand). Inverse
-/// iteration with the shift σ = (2π f_guess/c)² must settle (λ stable to
-/// 1e-13) within 200 iterations, or the test fails. Returns (f, Q).
+/// The scaling is [`common::LAYER`]. Inverse iteration with the shift
+/// σ = (2π f_guess/c)² must settle (λ stable to 1e-13) within 200
+/// iterations, or the test fails. Returns (f, Q).
 fn resonance(h: f64, f_guess: f64, medium: &Medium) -> (f64, f64) {
-    let (r0, z0, d, beta) = (9e-3, 7e-3, 6e-3, 60.0);
+    let (r0, z0, d, beta) = LAYER;
     let nr = ((r0 + d) / h).round() as usize; // E = 0 at i = 0 and i = nr
     let nz = ((z0 + d) / h).round() as usize; // ∂E/∂z = 0 at j = 0, E = 0 at j = nz
     let rt = |x: f64| stretched(x, r0, d, beta);
@@ -238,43 +186,7 @@ fn resonance(h: f64, f_guess: f64, medium: &Medium) -> (f64, f64) {
         }
     }
     // Shift and invert: (A − σ E) y = E x.
-    let k_guess = 2.0 * PI * f_guess / C0;
-    let sigma = k_guess * k_guess;
-    let mut shifted = a.clone();
-    for (row, e) in eps.iter().enumerate() {
-        shifted.push(Triplet::new(row, row, c64::new(-sigma * e, 0.0)));
-    }
-    let m = SparseColMat::<usize, c64>::try_new_from_triplets(n, n, &shifted).expect("a matrix");
-    let lu = m.sp_lu().expect("an LU factorisation");
-    use faer::linalg::solvers::Solve;
-    let mut x = Col::<c64>::from_fn(n, |k| c64::new(1.0 + (k % 7) as f64 * 0.1, 0.0));
-    let mut lambda = c64::new(sigma, 0.0);
-    let mut settled = false;
-    for _ in 0..200 {
-        let ex = Col::<c64>::from_fn(n, |k| x[k] * eps[k]);
-        let y = lu.solve(&ex);
-        // y ≈ x/(λ − σ): least squares for λ − σ.
-        let (mut num, mut den) = (c64::new(0.0, 0.0), 0.0);
-        for k in 0..n {
-            num += y[k].conj() * x[k];
-            den += y[k].norm_sqr();
-        }
-        let next = c64::new(sigma, 0.0) + num / den;
-        let norm = (0..n).map(|k| y[k].norm_sqr()).sum::<f64>().sqrt();
-        x = Col::<c64>::from_fn(n, |k| y[k] / norm);
-        settled = (next - lambda).norm() < 1e-13 * next.norm();
-        lambda = next;
-        if settled {
-            break;
-        }
-    }
-    assert!(
-        settled,
-        "inverse iteration did not settle near {f_guess:e} Hz (h {h:e})"
-    );
-    let w = lambda.sqrt() * C0;
-    let (wr, wi) = (w.re.abs(), w.im.abs());
-    (wr / (2.0 * PI), wr / (2.0 * wi))
+    nearest_resonance(&a, &eps, f_guess, 1e-13, 200, &format!("h {h:e}"))
 }
 
 /// (f, Q) on cells of 0.1 mm and 0.05 mm.
