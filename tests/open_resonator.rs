@@ -312,7 +312,7 @@ fn benchmark_cylinder_five_modes_in_half_a_billion_cell_updates() {
         ("HEM21δ", 7.7544, 337.56),
     ];
     // And against the two independent frequency-domain eigen-solvers
-    // (solver/tests/m0_eigen.rs for m = 0 at 0.05 and 0.025 mm,
+    // (solver/tests/m0_eigen.rs for m = 0: TE01δ at 0.05 mm, TM01δ at 0.025 mm;
     // solver/tests/hem_eigen.rs for m ≥ 1 at 0.025 mm; complex scaling,
     // sparse LU, no time stepping), which the target is held to as well:
     // they agree with the recalled table in 7 of its 10 figures and
