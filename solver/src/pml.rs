@@ -138,11 +138,11 @@ type Lin = (f64, f64, f64);
 /// The radial conductivity profile is graded for the square of the design
 /// reflection (twice σ_max of [`sigma_max`]): with the second-order
 /// recursion the radial layer then reflects least. Measured with
-/// `solver/tests/pml_reflection.rs` at 16 cells, m = 0 … 3, layer faces at
-/// 9 and 25 mm: design 1e-8 (factor 1) −53.8 dB at worst, 1e-12 −59.9,
-/// 1e-16 (this factor) −65.3, 1e-20 −61.9, 1e-24 −59.6: more conductivity
-/// reflects more where the layer is near the axis, less leaves the top of
-/// the band under-absorbed.
+/// `solver/tests/pml_reflection.rs` (16 cells, m = 0 … 3, layer faces at 25
+/// and 9 mm; worst case): factor 1 −60.1 dB, 1.5 −64.8, 2 −65.7, 2.5
+/// −61.8, 3 −59.6. More conductivity reflects more from the grading where
+/// the layer is near the axis; less leaves the top of the band
+/// under-absorbed.
 const RADIAL_GRADING: f64 = 2.0;
 
 /// A run of columns `lo..hi` of a z layer whose ψ sits at `off..` in each
