@@ -58,7 +58,7 @@
 //! ```
 //!
 //! That is first order in Δt, and the radial layer needs better: it uses
-//! the piecewise-linear form (X linear over the step; [`linear_factors`]),
+//! the piecewise-linear form (X linear over the step; `linear_factors`),
 //! carried as one state per term, ζ ← bζ + aX, ψ = ζ − cX. With it and the
 //! exact areas the radial layer's reflection fell from −51 … −54 dB to
 //! −66 dB at 16 cells where it is near the axis (DEVELOPERS.md,
