@@ -144,11 +144,11 @@ struct Split {
     grain: f64,
 }
 
-/// Cost of a radial-absorber row relative to a plain row: ten auxiliary
-/// recursions besides the six field updates. Chosen by timing one 95 × 95
-/// open run (solver/benches/common::benchmark_half) alone on two threads
-/// with weights 2.0, 2.5 and 3.5: 2.5 stepped fastest (1.5–1.6× one
-/// thread); the results do not depend on it.
+/// Cost of a radial-absorber row relative to a plain row: eight auxiliary
+/// recursions besides the six field updates (ten when this was chosen, by
+/// timing one 95 × 95 open run, solver/benches/common::benchmark_half,
+/// alone on two threads with weights 2.0, 2.5 and 3.5: 2.5 stepped fastest,
+/// 1.5–1.6× one thread). The results do not depend on it.
 const RADIAL_ROW_WEIGHT: f64 = 2.5;
 
 impl Split {
