@@ -759,11 +759,7 @@ fn diff<S: ByEntry, F: ByEntry, const NEG: bool>(
     for j in 0..n {
         let x = (w1[j] - w0[j]) * k;
         let p = advance(&mut psi[j], b.at(j), a.at(j), x);
-        if NEG {
-            u[j] -= s.at(j) * p;
-        } else {
-            u[j] += s.at(j) * p;
-        }
+        add::<NEG>(&mut u[j], s.at(j), p);
     }
 }
 
@@ -793,18 +789,20 @@ fn diff2<S: ByEntry, const NEGU: bool, const NEGV: bool>(
     for j in 0..n {
         let x = (w1[j] - w0[j]) * k;
         let p = advance(&mut pu[j], b[j], a[j], x);
-        if NEGU {
-            u[j] -= s.at(j) * p;
-        } else {
-            u[j] += s.at(j) * p;
-        }
+        add::<NEGU>(&mut u[j], s.at(j), p);
         let x = (v1[j] - v0[j]) * k;
         let p = advance(&mut pv[j], b[j], a[j], x);
-        if NEGV {
-            v[j] -= t.at(j) * p;
-        } else {
-            v[j] += t.at(j) * p;
-        }
+        add::<NEGV>(&mut v[j], t.at(j), p);
+    }
+}
+
+/// u − s·p when `NEG`, else u + s·p.
+#[inline(always)]
+fn add<const NEG: bool>(u: &mut f64, s: f64, p: f64) {
+    if NEG {
+        *u -= s * p;
+    } else {
+        *u += s * p;
     }
 }
 
@@ -835,11 +833,7 @@ fn radial_diff<S: ByEntry, const NEG: bool>(
     for j in 0..n {
         let x = (w1[j] - w0[j]) * k;
         let p = advance_linear(&mut zeta[j], f, x);
-        if NEG {
-            u[j] -= s.at(j) * p;
-        } else {
-            u[j] += s.at(j) * p;
-        }
+        add::<NEG>(&mut u[j], s.at(j), p);
     }
 }
 
@@ -867,22 +861,14 @@ fn diff_bar<S: ByEntry, const NEG: bool, const NEGT: bool>(
         let x = (w1[j] - w0[j]) * k;
         let p = advance_linear(&mut zd[j], fd, x);
         let mut e = u[j];
-        if NEG {
-            e -= s.at(j) * p;
-        } else {
-            e += s.at(j) * p;
-        }
+        add::<NEG>(&mut e, s.at(j), p);
         let x = if NEGT {
             (w1[j] + w0[j]) * h - mr * v[j]
         } else {
             (w1[j] + w0[j]) * h + mr * v[j]
         };
         let p = advance_linear(&mut zb[j], fb, x);
-        if NEG {
-            e -= s.at(j) * p;
-        } else {
-            e += s.at(j) * p;
-        }
+        add::<NEG>(&mut e, s.at(j), p);
         u[j] = e;
     }
 }
@@ -903,11 +889,7 @@ fn scaled<S: ByEntry, const NEG: bool>(
     for j in 0..n {
         let x = k * w[j];
         let p = advance_linear(&mut zeta[j], f, x);
-        if NEG {
-            u[j] -= s.at(j) * p;
-        } else {
-            u[j] += s.at(j) * p;
-        }
+        add::<NEG>(&mut u[j], s.at(j), p);
     }
 }
 
@@ -935,11 +917,7 @@ fn bar<S: ByEntry, const NEG: bool, const NEGT: bool>(
             (w1[j] + w0[j]) * h + mr * v[j]
         };
         let p = advance_linear(&mut zeta[j], f, x);
-        if NEG {
-            u[j] -= s.at(j) * p;
-        } else {
-            u[j] += s.at(j) * p;
-        }
+        add::<NEG>(&mut u[j], s.at(j), p);
     }
 }
 
