@@ -57,6 +57,10 @@ pub fn sphere_eps(r0: f64, r1: f64, z0: f64, z1: f64) -> f64 {
 /// the end. Moving the layer out to 12 and 10 mm, or in to 7 and 5 mm,
 /// deepening it to 9 mm, or taking β_max 30 or 120 changed f by less than
 /// 3e-6 and Q by less than 2e-4 (TE01δ in `m0_eigen.rs`, measured by hand).
+/// For `hem_eigen.rs` at 0.05 mm (HEM11δ, HEM12δ, HEM21δ), moving it out to
+/// 12 and 10 mm, deepening it to 9 mm, or taking β_max 30 or 120 changed f by
+/// less than 2e-7 and Q by less than 4e-5 (HEM21δ 337.361 … 337.382 against
+/// 337.374; measured by hand, 2026-12-02).
 pub const LAYER: (f64, f64, f64, f64) = (9e-3, 7e-3, 6e-3, 60.0);
 
 /// Stretched coordinate at `x` for a layer from `x0` of depth `d`:
