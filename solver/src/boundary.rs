@@ -24,7 +24,9 @@
 /// Conductivity profile σ(x) = σ_max x^order over the depth fraction
 /// x ∈ [0, 1], with σ_max = −(order+1) ln(reflection) / (2 η0 d) so that a
 /// wave crossing the layer twice at normal incidence is attenuated to
-/// `reflection` (d = cells × step). A constant complex-frequency shift
+/// `reflection` (d = cells × step); on the outer radius the layer is graded
+/// for `reflection`² (twice σ_max), where with its second-order recursion
+/// it reflects least (`crate::pml`, `RADIAL_GRADING`). A constant complex-frequency shift
 /// α = 2π ε0 `shift_hz` keeps the layer from absorbing quasi-static fields
 /// that never leave (Kuzuoglu & Mittra, IEEE MGWL 6(12), 1996).
 #[derive(Debug, Clone, Copy, PartialEq)]
