@@ -61,7 +61,7 @@
 //! the piecewise-linear form (X linear over the step; `linear_factors`),
 //! carried as one state per term, ζ ← bζ + aX, ψ = ζ − cX. With it and the
 //! exact areas the radial layer's reflection fell from −51 … −54 dB to
-//! −66 dB at 16 cells where it is near the axis (DEVELOPERS.md,
+//! −65.7 … −66.2 dB at 16 cells where it is near the axis (DEVELOPERS.md,
 //! "Absorbers"); the same form in the z layers reflected at −38 dB, so they
 //! keep the constant one.
 //!
@@ -577,7 +577,7 @@ impl PmlParams {
                         let w = ((w0, w1), (v0, v1));
                         diff2::<f64, true, false>(u, pu, v, pv, w.0, w.1, (ch, ch), idz, b, a);
                     }
-                    None => diff::<f64, _, true>(u, pu, w0, w1, idz, b, a, ch),
+                    None => diff::<f64, true>(u, pu, w0, w1, idz, b, a, ch),
                 }
             }
         }
@@ -660,7 +660,7 @@ impl PmlParams {
                         let cbs = (cb, &cbp[lo..hi]);
                         diff2::<&[f64], true, false>(u, pu, v, pv, w.0, w.1, cbs, idz, b, a);
                     }
-                    None => diff::<&[f64], _, true>(u, pu, w0, w1, idz, b, a, cb),
+                    None => diff::<&[f64], true>(u, pu, w0, w1, idz, b, a, cb),
                 }
             }
         }
@@ -743,29 +743,28 @@ fn advance(psi: &mut f64, b: f64, a: f64, x: f64) -> f64 {
     p
 }
 
-/// u ± s·ψ (− when `NEG`) over a span, ψ ← bψ + aX with the difference
-/// X = (w1 − w0)·k. `S` is the field's factor (Δt/μ0, or Δt/ε by node),
-/// `F` the recursion's (by column in the z layers, by row in the radial
-/// layer). Not inlined, so that its slices are known not to alias and the
-/// loop vectorises.
+/// u ± s·ψ (− when `NEG`) over a z-layer span, ψ ← bψ + aX with the
+/// difference X = (w1 − w0)·k and b, a by column. `S` is the field's factor
+/// (Δt/μ0, or Δt/ε by node). Not inlined, so that its slices are known not
+/// to alias and the loop vectorises.
 #[allow(clippy::too_many_arguments)]
 #[inline(never)]
-fn diff<S: ByEntry, F: ByEntry, const NEG: bool>(
+fn diff<S: ByEntry, const NEG: bool>(
     u: &mut [f64],
     psi: &mut [f64],
     w0: &[f64],
     w1: &[f64],
     k: f64,
-    b: F,
-    a: F,
+    b: &[f64],
+    a: &[f64],
     s: S,
 ) {
     let n = u.len();
     let (psi, w0, w1) = (&mut psi[..n], &w0[..n], &w1[..n]);
-    let (b, a, s) = (b.fit(n), a.fit(n), s.fit(n));
+    let (b, a, s) = (&b[..n], &a[..n], s.fit(n));
     for j in 0..n {
         let x = (w1[j] - w0[j]) * k;
-        let p = advance(&mut psi[j], b.at(j), a.at(j), x);
+        let p = advance(&mut psi[j], b[j], a[j], x);
         add::<NEG>(&mut u[j], s.at(j), p);
     }
 }
