@@ -112,9 +112,14 @@ pub fn solve_with(
     ms: &[u32],
     progress: &dyn Progress,
 ) -> Result<Vec<RunOutput>, SolverError> {
+    // Plans and runs start in the default floating-point mode (gradual
+    // underflow) whichever thread takes them: a thread that steals one while
+    // it waits inside another run's stepping is in that run's flush-to-zero
+    // mode, and the bits must not depend on who steals the work. Each run
+    // then sets flush-to-zero for its own stepping.
     let plans: Vec<RunPlan> = ms
         .par_iter()
-        .map(|&m| plan(problem, m))
+        .map(|&m| crate::fpu::with_gradual_underflow(|| plan(problem, m)))
         .collect::<Result<_, _>>()?;
     // Longest run first: the rest then fill in around it, and the last to
     // finish is a short one (which idle threads help through the row
@@ -125,7 +130,10 @@ pub fn solve_with(
     order.sort_by(|&a, &b| plans[a].dt.total_cmp(&plans[b].dt));
     let mut done: Vec<(usize, Result<RunOutput, SolverError>)> = order
         .par_iter()
-        .map(|&k| (k, run_with(problem, &plans[k], progress)))
+        .map(|&k| {
+            let r = crate::fpu::with_gradual_underflow(|| run_with(problem, &plans[k], progress));
+            (k, r)
+        })
         .collect();
     done.sort_by_key(|(k, _)| *k);
     let mut runs: Vec<RunOutput> = done.into_iter().map(|(_, r)| r).collect::<Result<_, _>>()?;

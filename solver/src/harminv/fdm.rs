@@ -334,10 +334,14 @@ fn fdm_pass(
             opts.noise_factor,
         )
     };
+    // Each sub-window in the caller's floating-point mode, whichever thread
+    // takes it (flush-to-zero or not changes the bits where subnormals
+    // occur; results must not depend on who steals the work).
+    let mode = crate::fpu::current_mode();
     let first = layout
         .subs
         .par_iter()
-        .map(|sub| solve(c, sub))
+        .map(|sub| crate::fpu::with_mode(mode, || solve(c, sub)))
         .collect::<Result<Vec<_>, _>>()?;
     if layout.subs.len() == 1 {
         return Ok(first.into_iter().flatten().collect());
@@ -370,13 +374,15 @@ fn fdm_pass(
             .subs
             .par_iter()
             .map(|sub| {
-                let mut deflated = c.to_vec();
-                for (log_u, d, nu) in &known {
-                    if wrap_cycles(nu - sub.centre).abs() > sub.half_span {
-                        subtract_pole(&mut deflated, *log_u, *d);
+                crate::fpu::with_mode(mode, || {
+                    let mut deflated = c.to_vec();
+                    for (log_u, d, nu) in &known {
+                        if wrap_cycles(nu - sub.centre).abs() > sub.half_span {
+                            subtract_pole(&mut deflated, *log_u, *d);
+                        }
                     }
-                }
-                solve(&deflated, sub)
+                    solve(&deflated, sub)
+                })
             })
             .collect::<Result<Vec<_>, _>>()?;
     }

@@ -245,9 +245,12 @@ fn pencil_pass(
             .collect())
     } else {
         let bands = plan_bands(n, nu_lo, nu_hi, opts);
+        // Each band in the caller's floating-point mode, whichever thread
+        // takes it (see fdm.rs).
+        let mode = crate::fpu::current_mode();
         let per_band: Vec<Result<Vec<Pole>, HarminvError>> = bands
             .par_iter()
-            .map(|b| solve_band(signal, dt, b, opts))
+            .map(|b| crate::fpu::with_mode(mode, || solve_band(signal, dt, b, opts)))
             .collect();
         let mut all = Vec::new();
         for r in per_band {
