@@ -74,10 +74,11 @@ use toml::{Table, Value};
 /// leapfrog's time dispersion removed (see `lathe_solver::modes`), the
 /// remaining error of a Yee grid is the spatial one, at most (kΔ)²/24 for
 /// propagation along a grid axis: 0.18 % at 30 cells per wavelength, and far
-/// less for the modes below f_max. 30 rather than 24 because curved
-/// surfaces are still staircased for E_r and E_z (first order): at 24 the
-/// Q of a sphere's TM1 mode was off by 4.7 %, at 30 by 1.3 %
-/// (tests/open_resonator.rs).
+/// less for the modes below f_max. 30 rather than 24 because of curved
+/// surfaces: with the first-order average they had then, the Q of a
+/// sphere's TM1 mode was off by 4.7 % at 24 and 1.3 % at 30
+/// (tests/open_resonator.rs); with today's second-order one it is +0.73 %
+/// at 30.
 pub const DEFAULT_CELLS_PER_WAVELENGTH: f64 = 30.0;
 
 /// Fewest cells per wavelength (in the densest material at f_max) a

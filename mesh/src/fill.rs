@@ -26,7 +26,8 @@
 //! the full anisotropic average of Kottke, Farjadpour & Johnson (see
 //! `curved_cell`): the diagonal entry for the node and the off-diagonal
 //! (r, z) entry, which the solver applies as a symmetric coupling between
-//! neighbouring E_r and E_z nodes.
+//! neighbouring E_r and E_z nodes (with a correction that makes it track
+//! the consistent, second-order form: solver/src/skew.rs).
 //!
 //! Metal is staircased: an electric node on or inside a PEC body is held at
 //! zero; metal samples in a free node's dual cell are left out of its mean.
@@ -295,8 +296,13 @@ const CURVED_SAMPLES: usize = 32;
 /// ε⁻¹ = ⟨ε⁻¹⟩ n nᵀ + ⟨ε⟩⁻¹ (1 − n nᵀ),
 ///
 /// the means r-weighted over the dual cell by the midpoint rule on 32 × 32
-/// points, n the direction in which ε grows across the cell (the ε-weighted
-/// first moment of the samples). Returned: 1/(ε⁻¹)_uu for the node's own
+/// points, n the normal of the body surface that cuts the cell, at the
+/// surface point nearest the cell's centre ([`crate::Shape::surface_normal`]).
+/// Where no single face defines it (a corner of a profile nearest), n is the
+/// direction in which ε grows across the cell (the ε-weighted first moment of
+/// the samples). The first moment alone is off by up to tens of degrees in a
+/// cell the surface only clips at a corner, which made the sphere's errors
+/// erratic (DEVELOPERS.md, "Material averaging"). Returned: 1/(ε⁻¹)_uu for the node's own
 /// direction u, and the off-diagonal (ε⁻¹)_rz, which the solver applies as a
 /// coupling between E_r and E_z nodes. E_φ is tangential to every interface
 /// of a body of revolution: its value is the arithmetic mean, no coupling.
@@ -342,7 +348,20 @@ fn curved_cell(
     if norm == 0.0 {
         return (mean, 0.0);
     }
-    let (nr, nz) = (mr / norm, mz / norm);
+    // The normal of the nearest dielectric surface that cuts the cell, at
+    // the point nearest the cell's centre; the first moment where no single
+    // face defines it (a corner of a profile in the cell).
+    let (pr, pz) = (0.5 * (r0 + r1), 0.5 * (z0 + z1));
+    let exact = bodies
+        .iter()
+        .filter(|b| matches!(b.material, Material::Dielectric { .. }))
+        .filter(|b| b.shape.classify(r0, r1, z0, z1) == Overlap::Cut)
+        .filter_map(|b| b.shape.surface_normal(pr, pz))
+        .min_by(|a, b| a.0.total_cmp(&b.0));
+    let (nr, nz) = match exact {
+        Some((_, n)) => n,
+        None => (mr / norm, mz / norm),
+    };
     let (a, b) = (inv_mean, 1.0 / mean);
     let t_rz = nr * nz * (a - b);
     let t_uu = if c == Component::Er {

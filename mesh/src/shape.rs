@@ -210,6 +210,44 @@ impl Shape {
         }
     }
 
+    /// The surface point nearest to `(r, z)`: its distance and the unit
+    /// normal of the surface there, or `None` where the normal is not
+    /// defined by one face (the nearest point is a corner of the profile, or
+    /// the point is the sphere's centre). Edges on the axis are not surface.
+    pub fn surface_normal(&self, r: f64, z: f64) -> Option<(f64, (f64, f64))> {
+        if let Shape::Sphere { radius, center } = *self {
+            let rho = r.hypot(z - center);
+            if rho == 0.0 {
+                return None;
+            }
+            return Some(((rho - radius).abs(), (r / rho, (z - center) / rho)));
+        }
+        let pts = self.profile();
+        let n = pts.len();
+        let mut best: Option<(f64, Option<(f64, f64)>)> = None;
+        for k in 0..n {
+            let (a, b) = (pts[k], pts[(k + 1) % n]);
+            if a.0 == 0.0 && b.0 == 0.0 {
+                continue;
+            }
+            let (dx, dz) = (b.0 - a.0, b.1 - a.1);
+            let len2 = dx * dx + dz * dz;
+            if len2 == 0.0 {
+                continue;
+            }
+            let t = ((r - a.0) * dx + (z - a.1) * dz) / len2;
+            let tc = t.clamp(0.0, 1.0);
+            let d = (a.0 + tc * dx - r).hypot(a.1 + tc * dz - z);
+            let len = len2.sqrt();
+            let normal = (t > 0.0 && t < 1.0).then_some((dz / len, -dx / len));
+            if best.is_none_or(|(bd, _)| d < bd) {
+                best = Some((d, normal));
+            }
+        }
+        let (d, normal) = best?;
+        normal.map(|nv| (d, nv))
+    }
+
     /// The shape's name as written in scenario files.
     pub fn kind(&self) -> &'static str {
         match self {
@@ -301,6 +339,35 @@ pub enum Overlap {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn surface_normals_of_sphere_and_cone() {
+        // Exact by construction (elementary geometry).
+        let sphere = Shape::Sphere {
+            radius: 2.0,
+            center: 1.0,
+        };
+        let (d, n) = sphere.surface_normal(1.2, 1.0 + 1.6).unwrap();
+        assert!((d - 0.0).abs() < 1e-12 && (n.0 - 0.6).abs() < 1e-12 && (n.1 - 0.8).abs() < 1e-12);
+        assert!(sphere.surface_normal(0.0, 1.0).is_none());
+        // Frustum 0 … 3 in r at the bottom, 1 at the top (height 2): the
+        // slanted side's normal is (2, 2)/|(2, 2)| rotated: (1, 1)/√2.
+        let cone = Shape::Cone {
+            radius_bottom: 3.0,
+            radius_top: 1.0,
+            height: 2.0,
+            base: 0.0,
+        };
+        let (d, n) = cone.surface_normal(2.0 + 0.1, 1.0 + 0.1).unwrap();
+        let h = std::f64::consts::FRAC_1_SQRT_2;
+        assert!((d - 0.1 * 2f64.sqrt()).abs() < 1e-12, "{d}");
+        assert!((n.0.abs() - h).abs() < 1e-12 && (n.1.abs() - h).abs() < 1e-12);
+        // Nearest the top face: normal along z; the axis edge is no surface.
+        let (_, n) = cone.surface_normal(0.3, 2.2).unwrap();
+        assert!(n.0.abs() < 1e-12 && (n.1.abs() - 1.0).abs() < 1e-12);
+        // Nearest a corner of the profile: no single normal.
+        assert!(cone.surface_normal(3.5, -0.5).is_none());
+    }
 
     #[test]
     fn cone_and_polygon_contain_and_classify() {

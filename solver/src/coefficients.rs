@@ -3,6 +3,7 @@
 use crate::boundary::{Walls, ZWall};
 use crate::consts::{EPS0, MU0};
 use crate::kernel::HFields;
+use crate::skew;
 use lathe_mesh::{Component, MaterialMap};
 
 /// Per-node and per-row factors of the leapfrog update (see [`crate::kernel`]).
@@ -120,16 +121,19 @@ impl Coefficients {
             v.iter_mut().for_each(|x| *x *= s);
         }
         if let Some(cp) = c.coupling.take() {
-            let (mut er, mut ez) = (cp.er.clone(), cp.ez.clone());
-            for list in [&mut er, &mut ez] {
+            let mut lists = [cp.er, cp.ez, cp.er_er, cp.ez_ez];
+            for list in lists.iter_mut() {
                 for (_, taps) in list.iter_mut() {
                     taps.iter_mut().for_each(|t| t.1 *= s);
                 }
             }
+            let [er, ez, er_er, ez_ez] = lists;
             c.coupling = Some(Coupling {
                 index: cp.index.rescaled(s),
                 er,
                 ez,
+                er_er,
+                ez_ez,
             });
         }
         c
@@ -203,7 +207,16 @@ impl RadialFactors {
 /// w̄ their mean), so that M_lk/w_k = M_kl/w_l: the whole E-from-D map stays
 /// symmetric in the energy inner product, which keeps the scheme's modes
 /// real (a stability requirement for anisotropic FDTD; Werner & Cary, J.
-/// Comput. Phys. 226, 2007, make the same point).
+/// Comput. Phys. 226, 2007, make the same point). That pair mean alone is
+/// first order; the correction Y of `solver/src/skew.rs` (symmetric, positive
+/// semi-definite, within one cell of each node) is added to it, E_r and E_z
+/// nodes then also tapping their own kind ([`Coupling::er_er`],
+/// [`Coupling::ez_ez`]), and the scheme converges at second order while
+/// staying stable.
+///
+/// While stepping, the curl of H at every tapped node is computed once per
+/// E half step (`Coupling::curls`, into the work space of
+/// [`crate::Fields`]), and each node's taps are multiply-adds on it.
 ///
 /// The kernel applies the coupling row by row, from an index built with
 /// the lists (node rows and the (i, j) of every tap, so that no flat index
@@ -214,6 +227,11 @@ pub struct Coupling {
     pub er: Vec<(usize, Vec<(usize, f64)>)>,
     /// Per E_z node: its flat index and (E_r index, coefficient) taps.
     pub ez: Vec<(usize, Vec<(usize, f64)>)>,
+    /// Per E_r node: its flat index and (E_r index, coefficient) taps (the
+    /// correction of `solver/src/skew.rs`, its own node included).
+    pub er_er: Vec<(usize, Vec<(usize, f64)>)>,
+    /// Per E_z node: its flat index and (E_z index, coefficient) taps.
+    pub ez_ez: Vec<(usize, Vec<(usize, f64)>)>,
     index: CouplingIndex,
 }
 
@@ -287,8 +305,15 @@ impl<T> RowIndex<T> {
 
 #[derive(Debug, Clone)]
 struct CouplingIndex {
-    er: RowIndex<ZTap>,
-    ez: RowIndex<RTap>,
+    /// The curl stencils at the tapped E_r nodes, then at the tapped E_z
+    /// nodes: entries of the curl buffer (see [`Coupling::curls`]).
+    curl_r: Vec<RTap>,
+    curl_z: Vec<ZTap>,
+    /// Taps as (curl buffer entry, coefficient), by target node row.
+    er: RowIndex<(usize, f64)>,
+    ez: RowIndex<(usize, f64)>,
+    er_er: RowIndex<(usize, f64)>,
+    ez_ez: RowIndex<(usize, f64)>,
     inv_dz: f64,
 }
 
@@ -297,8 +322,9 @@ impl CouplingIndex {
     /// [`Coefficients::with_dt`] scales the lists).
     fn rescaled(&self, s: f64) -> CouplingIndex {
         let mut ix = self.clone();
-        ix.er.taps.iter_mut().for_each(|t| t.w *= s);
-        ix.ez.taps.iter_mut().for_each(|t| t.w *= s);
+        for list in [&mut ix.er, &mut ix.ez, &mut ix.er_er, &mut ix.ez_ez] {
+            list.taps.iter_mut().for_each(|t| t.1 *= s);
+        }
         ix
     }
 }
@@ -333,10 +359,10 @@ impl Coupling {
             w
         };
         let w_ez = |i: usize| if i == 0 { g.dr / 8.0 } else { g.r_int(i) };
-        let scale = dt / crate::consts::EPS0;
-        let mut er = Vec::new();
-        let mut ez: Vec<(usize, Vec<(usize, f64)>)> = Vec::new();
-        let mut ez_taps: std::collections::BTreeMap<usize, Vec<(usize, f64)>> = Default::default();
+        // The symmetric pair values of N_s (unscaled): (E_r l, E_z k, M_lk,
+        // M_kl) for every pair of free neighbours either of which has an
+        // off-diagonal entry.
+        let mut pairs: Vec<(usize, usize, f64, f64)> = Vec::new();
         for i in 0..nr {
             for j in 0..=nz {
                 if held_er(i, j) {
@@ -344,7 +370,6 @@ impl Coupling {
                 }
                 let l = i * nj1 + j;
                 let tl = map.er.inv_eps_rz[l];
-                let mut taps = Vec::new();
                 for (ki, kj) in [
                     (i, j.wrapping_sub(1)),
                     (i, j),
@@ -355,25 +380,96 @@ impl Coupling {
                         continue;
                     }
                     let k = ki * nz + kj;
-                    let t = 0.125 * (tl + map.ez.inv_eps_rz[k]);
-                    if t == 0.0 {
+                    let tk = map.ez.inv_eps_rz[k];
+                    if tl == 0.0 && tk == 0.0 {
                         continue;
                     }
+                    let t = 0.125 * (tl + tk);
                     let (wl, wk) = (w_er(i, j), w_ez(ki));
                     let wbar = 0.5 * (wl + wk);
-                    taps.push((k, scale * t * wk / wbar));
-                    ez_taps
-                        .entry(k)
-                        .or_default()
-                        .push((l, scale * t * wl / wbar));
-                }
-                if !taps.is_empty() {
-                    er.push((l, taps));
+                    pairs.push((l, k, t * wk / wbar, t * wl / wbar));
                 }
             }
         }
-        ez.extend(ez_taps);
-        Some(Coupling::indexed(er, ez, g, walls, m))
+        // The correction that stands in for the consistent form.
+        let held_ephi = |i: usize, j: usize| {
+            map.ephi.pec[i * nj1 + j]
+                || (j == 0 && walls.bottom.is_conducting())
+                || (j == nz && walls.top.is_conducting())
+                || i == nr
+                || i == 0
+        };
+        let free = |(c, k): skew::Node| match c {
+            0 => !held_er(k / nj1, k % nj1),
+            1 => !held_ephi(k / nj1, k % nj1),
+            _ => !held_ez(k / nz, k % nz),
+        };
+        let diag = |(c, k): skew::Node| match c {
+            0 => 1.0 / map.er.eps_r[k],
+            1 => 1.0 / map.ephi.eps_r[k],
+            _ => 1.0 / map.ez.eps_r[k],
+        };
+        let weight = |(c, k): skew::Node| match c {
+            0 => w_er(k / nj1, k % nj1),
+            1 => {
+                let (i, j) = (k / nj1, k % nj1);
+                let pmc =
+                    (j == 0 && walls.bottom == ZWall::Pmc) || (j == nz && walls.top == ZWall::Pmc);
+                g.r_int(i) * if pmc { 0.5 } else { 1.0 }
+            }
+            _ => w_ez(k / nz),
+        };
+        let t = |(c, k): skew::Node| match c {
+            0 => map.er.inv_eps_rz[k],
+            2 => map.ez.inv_eps_rz[k],
+            _ => 0.0,
+        };
+        let layout = skew::Layout {
+            nr,
+            nz,
+            m,
+            dr: g.dr,
+            dz: g.dz,
+            free: &free,
+            diag: &diag,
+            weight: &weight,
+        };
+        let y = skew::correction(&layout, &pairs, &t);
+        // Merge: cross entries into the pair taps, same-type entries into
+        // their own lists; scaled by Δt/ε0.
+        let scale = dt / crate::consts::EPS0;
+        let mut cross: std::collections::BTreeMap<(usize, usize), f64> = Default::default();
+        let mut back: std::collections::BTreeMap<(usize, usize), f64> = Default::default();
+        for &(l, k, mlk, mkl) in &pairs {
+            *cross.entry((l, k)).or_default() += mlk;
+            *back.entry((k, l)).or_default() += mkl;
+        }
+        let mut rr: std::collections::BTreeMap<(usize, usize), f64> = Default::default();
+        let mut zz: std::collections::BTreeMap<(usize, usize), f64> = Default::default();
+        for &((ca, a), (cc, c), v) in &y {
+            match (ca, cc) {
+                (0, 2) => *cross.entry((a, c)).or_default() += v,
+                (2, 0) => *back.entry((a, c)).or_default() += v,
+                (0, 0) => *rr.entry((a, c)).or_default() += v,
+                (2, 2) => *zz.entry((a, c)).or_default() += v,
+                _ => {}
+            }
+        }
+        let lists = |m: std::collections::BTreeMap<(usize, usize), f64>| {
+            let mut out: Vec<(usize, Vec<(usize, f64)>)> = Vec::new();
+            for ((a, b), v) in m {
+                if v == 0.0 {
+                    continue;
+                }
+                match out.last_mut() {
+                    Some((n, taps)) if *n == a => taps.push((b, scale * v)),
+                    _ => out.push((a, vec![(b, scale * v)])),
+                }
+            }
+            out
+        };
+        let (er, ez, er_er, ez_ez) = (lists(cross), lists(back), lists(rr), lists(zz));
+        Some(Coupling::indexed(er, ez, er_er, ez_ez, g, walls, m))
     }
 
     /// The coupling of these lists (sorted by node, as [`Coupling::new`]
@@ -381,6 +477,8 @@ impl Coupling {
     fn indexed(
         er: Vec<(usize, Vec<(usize, f64)>)>,
         ez: Vec<(usize, Vec<(usize, f64)>)>,
+        er_er: Vec<(usize, Vec<(usize, f64)>)>,
+        ez_ez: Vec<(usize, Vec<(usize, f64)>)>,
         g: &lathe_mesh::Grid,
         walls: &Walls,
         m: u32,
@@ -427,47 +525,88 @@ impl Coupling {
                 k: [l, k1, k2],
             }
         };
+        // Every curl a tap reads, once: the E_r nodes' then the E_z nodes'.
+        let mut at_r: std::collections::BTreeMap<usize, usize> = Default::default();
+        let mut at_z: std::collections::BTreeMap<usize, usize> = Default::default();
+        for (_, taps) in ez.iter().chain(&er_er) {
+            at_r.extend(taps.iter().map(|t| (t.0, 0)));
+        }
+        for (_, taps) in er.iter().chain(&ez_ez) {
+            at_z.extend(taps.iter().map(|t| (t.0, 0)));
+        }
+        let nr_curls = at_r.len();
+        for (q, v) in at_r.values_mut().enumerate() {
+            *v = q;
+        }
+        for (q, v) in at_z.values_mut().enumerate() {
+            *v = nr_curls + q;
+        }
         let index = CouplingIndex {
-            er: RowIndex::new(&er, nr, nj1, z_tap),
-            ez: RowIndex::new(&ez, nr + 1, nz, r_tap),
+            curl_r: at_r.keys().map(|&l| r_tap(l, 1.0)).collect(),
+            curl_z: at_z.keys().map(|&k| z_tap(k, 1.0)).collect(),
+            er: RowIndex::new(&er, nr, nj1, |k, w| (at_z[&k], w)),
+            ez: RowIndex::new(&ez, nr + 1, nz, |l, w| (at_r[&l], w)),
+            er_er: RowIndex::new(&er_er, nr, nj1, |l, w| (at_r[&l], w)),
+            ez_ez: RowIndex::new(&ez_ez, nr + 1, nz, |k, w| (at_z[&k], w)),
             inv_dz: 1.0 / g.dz,
         };
-        Coupling { er, ez, index }
+        Coupling {
+            er,
+            ez,
+            er_er,
+            ez_ez,
+            index,
+        }
+    }
+
+    /// Entries of the curl buffer [`Coupling::curls`] fills.
+    pub(crate) fn curl_len(&self) -> usize {
+        self.index.curl_r.len() + self.index.curl_z.len()
+    }
+
+    /// The curl of H at every tapped node (the D increment over ε0 Δt, by
+    /// the kernel's own arithmetic, [`crate::kernel`]) into `out`, once per
+    /// E half step before its rows.
+    pub(crate) fn curls(&self, h: &HFields, out: &mut [f64]) {
+        let ix = &self.index;
+        let (hr, hphi, hz) = (h.hr, h.hphi, h.hz);
+        let idz = ix.inv_dz;
+        let (a, b) = out.split_at_mut(ix.curl_r.len());
+        for (o, t) in a.iter_mut().zip(&ix.curl_r) {
+            // (∇×H)_r at an E_r node.
+            let above = t.s[0] * hphi[t.k[1]];
+            let below = t.s[1] * hphi[t.k[2]];
+            *o = t.w * (t.mr * hz[t.k[0]] - (above - below) * idz);
+        }
+        for (o, t) in b.iter_mut().zip(&ix.curl_z) {
+            // (∇×H)_z at an E_z node.
+            let curl = if t.axis {
+                t.c[0] * hphi[t.k[0]]
+            } else {
+                t.c[0] * hphi[t.k[0]] - t.c[1] * hphi[t.k[1]] - t.c[2] * hr[t.k[2]]
+            };
+            *o = t.w * curl;
+        }
     }
 
     /// Adds the coupling to the E_r and E_z nodes of row `i` (after their
-    /// bulk update): Δe_r(l) = Σ_k M_lk C_z(k), Δe_z(k) = Σ_l M_kl C_r(l),
-    /// C the curl of H at the tap, by the kernel's own arithmetic
-    /// ([`crate::kernel`]).
+    /// bulk update): Δe_r(l) = Σ_k M_lk C(k) over its E_z and E_r taps,
+    /// Δe_z(k) likewise, C the curls [`Coupling::curls`] put in `curl`.
     #[inline]
-    pub(crate) fn apply_row(&self, i: usize, h: &HFields, er: &mut [f64], ez: &mut [f64]) {
+    pub(crate) fn apply_row(&self, i: usize, curl: &[f64], er: &mut [f64], ez: &mut [f64]) {
         let ix = &self.index;
-        let (hr, hphi, hz) = (h.hr, h.hphi, h.hz);
+        let sum = |taps: &[(usize, f64)]| taps.iter().map(|&(q, w)| w * curl[q]).sum::<f64>();
         for &(j, a, b) in ix.er.of_row(i) {
-            let s: f64 = ix.er.taps[a..b]
-                .iter()
-                .map(|t| {
-                    let curl = if t.axis {
-                        t.c[0] * hphi[t.k[0]]
-                    } else {
-                        t.c[0] * hphi[t.k[0]] - t.c[1] * hphi[t.k[1]] - t.c[2] * hr[t.k[2]]
-                    };
-                    t.w * curl
-                })
-                .sum();
-            er[j] += s;
+            er[j] += sum(&ix.er.taps[a..b]);
         }
-        let idz = ix.inv_dz;
+        for &(j, a, b) in ix.er_er.of_row(i) {
+            er[j] += sum(&ix.er_er.taps[a..b]);
+        }
         for &(j, a, b) in ix.ez.of_row(i) {
-            let s: f64 = ix.ez.taps[a..b]
-                .iter()
-                .map(|t| {
-                    let above = t.s[0] * hphi[t.k[1]];
-                    let below = t.s[1] * hphi[t.k[2]];
-                    t.w * (t.mr * hz[t.k[0]] - (above - below) * idz)
-                })
-                .sum();
-            ez[j] += s;
+            ez[j] += sum(&ix.ez.taps[a..b]);
+        }
+        for &(j, a, b) in ix.ez_ez.of_row(i) {
+            ez[j] += sum(&ix.ez_ez.taps[a..b]);
         }
     }
 }

@@ -4,7 +4,7 @@ use lathe_mesh::{Component, Grid};
 /// The six real field coefficients on the staggered grid (see
 /// [`lathe_mesh::Component`] for where each sits). E in V/m, H in A/m.
 /// Each array is row-major in `i` (radius) with `j` (z) contiguous.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone)]
 pub struct Fields {
     /// Radial cells.
     pub nr: usize,
@@ -22,6 +22,17 @@ pub struct Fields {
     pub hphi: Vec<f64>,
     /// H_z, nr × (nz+1).
     pub hz: Vec<f64>,
+    /// Work space of the E half step: the curls the off-diagonal coupling
+    /// reads (sized at the first step that needs it; not a field).
+    pub(crate) curls: Vec<f64>,
+}
+
+/// Equal when the six components (and the grid size) are.
+impl PartialEq for Fields {
+    fn eq(&self, o: &Fields) -> bool {
+        (self.nr, self.nz) == (o.nr, o.nz)
+            && Component::ALL.iter().all(|&c| self.get(c) == o.get(c))
+    }
 }
 
 impl Fields {
@@ -40,6 +51,7 @@ impl Fields {
             hr: n(Component::Hr),
             hphi: n(Component::Hphi),
             hz: n(Component::Hz),
+            curls: Vec::new(),
         }
     }
 

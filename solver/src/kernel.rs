@@ -351,9 +351,16 @@ pub(crate) fn e_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml
         hr,
         hphi,
         hz,
+        curls,
         ..
     } = f;
     let h = HFields { hr, hphi, hz };
+    // The coupling's curls, once for the half step (H is complete).
+    if let (true, Some(cp)) = (bulk, &c.coupling) {
+        curls.resize(cp.curl_len(), 0.0);
+        cp.curls(&h, curls);
+    }
+    let curls: &[f64] = curls;
     let (params, psi): (Option<&PmlParams>, EPsi) = match pml {
         Some(p) => {
             let (a, b) = p.split_e();
@@ -376,7 +383,7 @@ pub(crate) fn e_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml
         if bulk {
             e_bulk(c, &h, i, er, ephi.as_deref_mut(), ez);
             if let Some(cp) = &c.coupling {
-                cp.apply_row(i, &h, er, ez);
+                cp.apply_row(i, curls, er, ez);
             }
         }
         if let Some(p) = params {

@@ -52,6 +52,7 @@ pub mod modes;
 pub mod plan;
 pub mod pml;
 pub mod run;
+mod skew;
 pub mod stability;
 
 pub use boundary::{Absorber, OuterWall, Walls, ZWall};

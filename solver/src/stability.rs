@@ -18,9 +18,11 @@
 //! until it changes by less than 1e-7 over ten iterations leaves it well
 //! within the safety factor the run applies (see [`crate::plan()`]). With the
 //! off-diagonal permittivity coupling at curved interfaces
-//! ([`crate::coefficients::Coupling`]) A is self-adjoint in a slightly
-//! different inner product; the estimate then stays within 1e-3 of the dense
-//! value (solver/tests/operator.rs), far inside the 3 % margin.
+//! ([`crate::coefficients::Coupling`]) E = N D with N symmetric and positive
+//! in the volume weights but not diagonal; the iteration then runs on D,
+//! A_D = L μ⁻¹ K N (the same non-zero eigenvalues), self-adjoint in
+//! ⟨x, y⟩ = Σ w x (N y), and the estimate matches the dense value to
+//! round-off (solver/tests/operator.rs).
 use crate::boundary::{Walls, ZWall};
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
@@ -47,23 +49,71 @@ pub fn stability_limit(map: &MaterialMap, walls: &Walls, m: u32) -> StabilityLim
     let weights = node_weights(&c1, map, walls);
     let n = weights.len();
     let mut f = Fields::zeros(g);
+    // With the off-diagonal coupling E = N D, N not diagonal. The operator
+    // is then taken on D, A_D = L μ⁻¹ K N (the same non-zero eigenvalues as
+    // A), which is self-adjoint in ⟨x, y⟩ = Σ w x (N y): N is symmetric and
+    // positive definite in the volume weights (crate::skew). Without it
+    // N is diagonal and A is taken on E as in the module docs.
+    let cb: Vec<f64> = [Component::Er, Component::Ephi, Component::Ez]
+        .iter()
+        .flat_map(|&c| c1.cb(c).iter().copied())
+        .collect();
+    let (na, nb) = (f.er.len(), f.ephi.len());
+    let coupling = c1.coupling.as_ref();
+    let apply_n = |x: &[f64]| -> Vec<f64> {
+        let mut out: Vec<f64> = x.iter().zip(&cb).map(|(x, c)| x * c).collect();
+        if let Some(cp) = coupling {
+            for (l, taps) in &cp.er {
+                out[*l] += taps.iter().map(|&(k, w)| w * x[na + nb + k]).sum::<f64>();
+            }
+            for (l, taps) in &cp.er_er {
+                out[*l] += taps.iter().map(|&(k, w)| w * x[k]).sum::<f64>();
+            }
+            for (k, taps) in &cp.ez {
+                out[na + nb + k] += taps.iter().map(|&(l, w)| w * x[l]).sum::<f64>();
+            }
+            for (k, taps) in &cp.ez_ez {
+                out[na + nb + k] += taps.iter().map(|&(l, w)| w * x[na + nb + l]).sum::<f64>();
+            }
+        }
+        out
+    };
+    let mut vacuum = c1.clone();
+    vacuum.coupling = None;
+    for v in [&mut vacuum.cb_er, &mut vacuum.cb_ephi, &mut vacuum.cb_ez] {
+        v.iter_mut().filter(|x| **x != 0.0).for_each(|x| *x = 1.0);
+    }
     let apply = |f: &mut Fields, v: &[f64], out: &mut [f64]| {
         f.clear();
-        scatter(f, v);
+        if coupling.is_some() {
+            scatter(f, &apply_n(v));
+        } else {
+            scatter(f, v);
+        }
         update_h(f, &c1);
         for c in [Component::Er, Component::Ephi, Component::Ez] {
             f.get_mut(c).fill(0.0);
         }
-        update_e(f, &c1);
+        update_e(f, if coupling.is_some() { &vacuum } else { &c1 });
         gather(f, out);
         out.iter_mut().for_each(|x| *x = -*x);
     };
+    let volume: Vec<f64> = weights.iter().zip(&cb).map(|(w, c)| w * c).collect();
     let dot = |a: &[f64], b: &[f64]| -> f64 {
-        a.iter()
-            .zip(b)
-            .zip(&weights)
-            .map(|((x, y), w)| x * y * w)
-            .sum()
+        match coupling {
+            Some(_) => a
+                .iter()
+                .zip(&apply_n(b))
+                .zip(&volume)
+                .map(|((x, y), w)| x * y * w)
+                .sum(),
+            None => a
+                .iter()
+                .zip(b)
+                .zip(&weights)
+                .map(|((x, y), w)| x * y * w)
+                .sum(),
+        }
     };
     // Seeded random start on the free nodes.
     let mut state = 0x9E37_79B9_7F4A_7C15u64 ^ (m as u64);

@@ -230,17 +230,44 @@ pub(crate) fn displacement(rad: &Radiator) -> [Vec<C>; 3] {
     let Some(cp) = Coupling::new(map, rad.data.walls, rad.data.m, 1.0) else {
         return d;
     };
-    // Unknowns: the coupled E_r nodes, then the coupled E_z nodes.
-    let ner = cp.er.len();
-    let mut pos_ez = std::collections::HashMap::new();
-    for (q, (k, _)) in cp.ez.iter().enumerate() {
-        pos_ez.insert(*k, ner + q);
+    // Unknowns: the coupled E_r nodes, then the coupled E_z nodes (every
+    // node with a tap or tapped, in index order).
+    let mut set_er = std::collections::BTreeSet::new();
+    let mut set_ez = std::collections::BTreeSet::new();
+    for (l, taps) in cp.er.iter().chain(&cp.er_er) {
+        set_er.insert(*l);
+        let _ = taps;
     }
-    let mut pos_er = std::collections::HashMap::new();
-    for (q, (l, _)) in cp.er.iter().enumerate() {
-        pos_er.insert(*l, q);
+    for (_, taps) in &cp.ez {
+        set_er.extend(taps.iter().map(|t| t.0));
     }
-    let n = ner + cp.ez.len();
+    for (_, taps) in &cp.er_er {
+        set_er.extend(taps.iter().map(|t| t.0));
+    }
+    for (k, _) in cp.ez.iter().chain(&cp.ez_ez) {
+        set_ez.insert(*k);
+    }
+    for (_, taps) in cp.er.iter().chain(&cp.ez_ez) {
+        set_ez.extend(taps.iter().map(|t| t.0));
+    }
+    let ner = set_er.len();
+    let pos_er: std::collections::HashMap<usize, usize> =
+        set_er.iter().enumerate().map(|(q, &l)| (l, q)).collect();
+    let pos_ez: std::collections::HashMap<usize, usize> = set_ez
+        .iter()
+        .enumerate()
+        .map(|(q, &k)| (k, ner + q))
+        .collect();
+    let n = ner + set_ez.len();
+    let taps_of = |list: &[(usize, Vec<(usize, f64)>)]| -> std::collections::HashMap<usize, Vec<(usize, f64)>> {
+        list.iter().cloned().collect()
+    };
+    let (t_er, t_ez, t_rr, t_zz) = (
+        taps_of(&cp.er),
+        taps_of(&cp.ez),
+        taps_of(&cp.er_er),
+        taps_of(&cp.ez_ez),
+    );
     // Rows: (flat index, is E_r, 1/(ε0 ε_r), weight, taps as (unknown, coefficient)).
     let nj1 = g.nz + 1;
     let pmc = |j: usize| {
@@ -248,29 +275,31 @@ pub(crate) fn displacement(rad: &Radiator) -> [Vec<C>; 3] {
             || (j == g.nz && rad.data.walls.top == ZWall::Pmc)
     };
     let mut rows: Vec<Row> = Vec::with_capacity(n);
-    for (l, taps) in &cp.er {
+    for &l in &set_er {
         let (i, j) = (l / nj1, l % nj1);
         let w = g.r_half(i) * if pmc(j) { 0.5 } else { 1.0 };
-        let a = 1.0 / (EPS0 * map.er.eps_r[*l]);
-        rows.push((
-            *l,
-            true,
-            a,
-            w,
-            taps.iter().map(|&(k, c)| (pos_ez[&k], c)).collect(),
-        ));
+        let a = 1.0 / (EPS0 * map.er.eps_r[l]);
+        let mut taps: Vec<(usize, f64)> = Vec::new();
+        if let Some(t) = t_er.get(&l) {
+            taps.extend(t.iter().map(|&(k, c)| (pos_ez[&k], c)));
+        }
+        if let Some(t) = t_rr.get(&l) {
+            taps.extend(t.iter().map(|&(k, c)| (pos_er[&k], c)));
+        }
+        rows.push((l, true, a, w, taps));
     }
-    for (k, taps) in &cp.ez {
+    for &k in &set_ez {
         let i = k / g.nz;
         let w = if i == 0 { g.dr / 8.0 } else { g.r_int(i) };
-        let a = 1.0 / (EPS0 * map.ez.eps_r[*k]);
-        rows.push((
-            *k,
-            false,
-            a,
-            w,
-            taps.iter().map(|&(l, c)| (pos_er[&l], c)).collect(),
-        ));
+        let a = 1.0 / (EPS0 * map.ez.eps_r[k]);
+        let mut taps: Vec<(usize, f64)> = Vec::new();
+        if let Some(t) = t_ez.get(&k) {
+            taps.extend(t.iter().map(|&(l, c)| (pos_er[&l], c)));
+        }
+        if let Some(t) = t_zz.get(&k) {
+            taps.extend(t.iter().map(|&(l, c)| (pos_ez[&l], c)));
+        }
+        rows.push((k, false, a, w, taps));
     }
     let (er, ez) = (comp(Component::Er), comp(Component::Ez));
     // B = W A is symmetric positive definite; solve B x = W e by
