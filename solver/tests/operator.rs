@@ -393,29 +393,37 @@ fn kernel_matches_a_direct_transcription_of_the_equations() {
     }
 }
 
-#[test]
-fn anisotropic_coupling_is_symmetric_and_keeps_the_spectrum_real() {
-    // A sphere (ε_r 9.3, radius 1.3 mm) on a PMC plane in a PEC can: its
-    // cut cells carry off-diagonal permittivity couplings. The E-from-D map
-    // must satisfy M_lk/w_k = M_kl/w_l, and the curl-curl operator must
-    // keep real, non-negative eigenvalues (else modes would grow).
-    let g = Grid::new(2.5e-3, 0.0, 2.0e-3, 0.25e-3).unwrap();
+/// A sphere of ε_r `eps_r` (radius 1.3 mm) on a PMC plane in a PEC can of
+/// 2.5 mm × 2.0 mm, cells of `cell` metres: its cut cells carry the
+/// off-diagonal coupling.
+fn sphere_in_can(cell: f64, eps_r: f64) -> (MaterialMap, Walls) {
+    let g = Grid::new(2.5e-3, 0.0, 2.0e-3, cell).unwrap();
     let sphere = Body {
         shape: Shape::Sphere {
             radius: 1.3e-3,
             center: 0.0,
         },
         material: Material::Dielectric {
-            eps_r: 9.3,
+            eps_r,
             loss_tangent: 0.0,
         },
     };
-    let map = fill(&g, &[sphere], FillOptions::default());
     let walls = Walls {
         bottom: ZWall::Pmc,
         top: ZWall::Pec,
         outer: OuterWall::Pec,
     };
+    (fill(&g, &[sphere], FillOptions::default()), walls)
+}
+
+#[test]
+fn anisotropic_coupling_is_symmetric_and_keeps_the_spectrum_real() {
+    // A sphere (ε_r 9.3, radius 1.3 mm) on a PMC plane in a PEC can: its
+    // cut cells carry off-diagonal permittivity couplings. The E-from-D map
+    // must satisfy M_lk/w_k = M_kl/w_l, and the curl-curl operator must
+    // keep real, non-negative eigenvalues (else modes would grow).
+    let (map, walls) = sphere_in_can(0.25e-3, 9.3);
+    let g = map.grid.clone();
     for m in [0u32, 1, 2] {
         let c = Coefficients::new(&map, &walls, m, 1.0);
         let cp = c.coupling.as_ref().expect("a sphere has cut cells");
@@ -551,23 +559,8 @@ fn coupling_tracks_the_consistent_form() {
     // the consistent form's (measured 2026-12-02: 0.03 … 0.19 over eleven
     // modes of m = 0 and 1).
     use lathe_solver::consts::{EPS0, MU0};
-    let g = Grid::new(2.5e-3, 0.0, 2.0e-3, 0.125e-3).unwrap();
-    let sphere = Body {
-        shape: Shape::Sphere {
-            radius: 1.3e-3,
-            center: 0.0,
-        },
-        material: Material::Dielectric {
-            eps_r: 38.0,
-            loss_tangent: 0.0,
-        },
-    };
-    let map = fill(&g, &[sphere], FillOptions::default());
-    let walls = Walls {
-        bottom: ZWall::Pmc,
-        top: ZWall::Pec,
-        outer: OuterWall::Pec,
-    };
+    let (map, walls) = sphere_in_can(0.125e-3, 38.0);
+    let g = map.grid.clone();
     let mut tracked = 0;
     for m in [0u32, 1] {
         let full = Coefficients::new(&map, &walls, m, 1.0);
@@ -687,23 +680,7 @@ fn random_fields_stay_bounded_with_the_curved_coupling() {
     // by the exchange between E and H, and the weights differ from the
     // energy's). Measured 2026-12-02: 0.84 … 1.07 after 10⁵ steps, 0.86 …
     // 1.12 after 10⁶.
-    let g = Grid::new(2.5e-3, 0.0, 2.0e-3, 0.125e-3).unwrap();
-    let sphere = Body {
-        shape: Shape::Sphere {
-            radius: 1.3e-3,
-            center: 0.0,
-        },
-        material: Material::Dielectric {
-            eps_r: 38.0,
-            loss_tangent: 0.0,
-        },
-    };
-    let map = fill(&g, &[sphere], FillOptions::default());
-    let walls = Walls {
-        bottom: ZWall::Pmc,
-        top: ZWall::Pec,
-        outer: OuterWall::Pec,
-    };
+    let (map, walls) = sphere_in_can(0.125e-3, 38.0);
     for m in [0u32, 1, 2] {
         let dt = 0.97 * stability_limit(&map, &walls, m).dt_max;
         let early = energy_after(&map, &walls, m, dt, 1_000);

@@ -234,18 +234,15 @@ pub(crate) fn displacement(rad: &Radiator) -> [Vec<C>; 3] {
     // node with a tap or tapped, in index order).
     let mut set_er = std::collections::BTreeSet::new();
     let mut set_ez = std::collections::BTreeSet::new();
-    for (l, taps) in cp.er.iter().chain(&cp.er_er) {
+    // Every list's own nodes, and the nodes its taps read.
+    for (l, _) in cp.er.iter().chain(&cp.er_er) {
         set_er.insert(*l);
-        let _ = taps;
-    }
-    for (_, taps) in &cp.ez {
-        set_er.extend(taps.iter().map(|t| t.0));
-    }
-    for (_, taps) in &cp.er_er {
-        set_er.extend(taps.iter().map(|t| t.0));
     }
     for (k, _) in cp.ez.iter().chain(&cp.ez_ez) {
         set_ez.insert(*k);
+    }
+    for (_, taps) in cp.ez.iter().chain(&cp.er_er) {
+        set_er.extend(taps.iter().map(|t| t.0));
     }
     for (_, taps) in cp.er.iter().chain(&cp.ez_ez) {
         set_ez.extend(taps.iter().map(|t| t.0));
