@@ -68,11 +68,11 @@ pub(crate) struct Layout<'a> {
     pub dr: f64,
     pub dz: f64,
     /// Whether a node is free (not held at zero).
-    pub free: &'a (dyn Fn(Node) -> bool + Sync),
+    pub free: &'a dyn Fn(Node) -> bool,
     /// Diagonal entry of N at a free node (1/ε_r).
-    pub diag: &'a (dyn Fn(Node) -> f64 + Sync),
+    pub diag: &'a dyn Fn(Node) -> f64,
     /// Volume weight of a node.
-    pub weight: &'a (dyn Fn(Node) -> f64 + Sync),
+    pub weight: &'a dyn Fn(Node) -> f64,
 }
 
 impl Layout<'_> {
@@ -121,7 +121,7 @@ impl Layout<'_> {
 pub(crate) fn correction(
     lay: &Layout,
     pairs: &[(usize, usize, f64, f64)],
-    t: &(dyn Fn(Node) -> f64 + Sync),
+    t: &dyn Fn(Node) -> f64,
 ) -> Vec<(Node, Node, f64)> {
     // S = N_c − N_s, by row.
     let mut s: HashMap<Node, Vec<(Node, f64)>> = HashMap::new();
