@@ -134,7 +134,7 @@ trait SplitRows: Sized + Send {
 
 /// How a half step's rows are split over the pool: in blocks of about
 /// `1/threads` of the step's cost, rows from `heavy` on (the radial
-/// absorber's, with ten auxiliary recursions per cell besides the six
+/// absorber's, with eight auxiliary recursions per cell besides the six
 /// field updates) weighing [`RADIAL_ROW_WEIGHT`] times a plain row.
 #[derive(Clone, Copy)]
 struct Split {
