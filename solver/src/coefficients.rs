@@ -219,8 +219,9 @@ impl RadialFactors {
 /// [`crate::Fields`]), and each node's taps are multiply-adds on it.
 ///
 /// The kernel applies the coupling row by row, from an index built with
-/// the lists (node rows and the (i, j) of every tap, so that no flat index
-/// is divided while stepping); the lists are therefore read-only.
+/// the lists (node rows, each tap as its entry of the curl buffer, and the
+/// curl stencils, so that no flat index is divided while stepping); the
+/// lists are therefore read-only.
 #[derive(Debug, Clone)]
 pub struct Coupling {
     /// Per E_r node: its flat index and (E_z index, coefficient) taps.
@@ -237,29 +238,25 @@ pub struct Coupling {
 
 /// (∇×H)_z at an E_z node as the kernel computes it ([`crate::kernel`]):
 /// c0·h_φ(k0) − c1·h_φ(k1) − c2·h_r(k2), or 4h_φ(½)/Δr on the m = 0 axis
-/// (c0·h_φ(k0)); with the tap's coefficient `w`.
+/// (c0·h_φ(k0)).
 #[derive(Debug, Clone, Copy)]
 struct ZTap {
-    w: f64,
     c: [f64; 3],
     k: [usize; 3],
     axis: bool,
 }
 
 /// (∇×H)_r at an E_r node: (m/r)·h_z(k0) − (s0·h_φ(k1) − s1·h_φ(k2))/Δz,
-/// s = 1 inside and the odd image factor across a z wall; with the tap's
-/// coefficient `w`.
+/// s = 1 inside and the odd image factor across a z wall.
 #[derive(Debug, Clone, Copy)]
 struct RTap {
-    w: f64,
     mr: f64,
     s: [f64; 2],
     k: [usize; 3],
 }
 
-/// [`Coupling`] by grid row, with each tap's curl stencil resolved: the
-/// nodes of row i are `nodes[row[i]..row[i + 1]]`, each (column j, range
-/// of its taps).
+/// One of [`Coupling`]'s lists by grid row: the nodes of row i are
+/// `nodes[row[i]..row[i + 1]]`, each (column j, range of its taps).
 #[derive(Debug, Clone)]
 struct RowIndex<T> {
     row: Vec<usize>,
@@ -488,25 +485,23 @@ impl Coupling {
         let rf = RadialFactors::new(g, m);
         let inv_dr = 1.0 / g.dr;
         let img = |w: ZWall| if w == ZWall::Pmc { -1.0 } else { 0.0 };
-        let z_tap = |k: usize, w: f64| {
+        let z_tap = |k: usize| {
             let (i, j) = (k / nz, k % nz);
             if i == 0 {
                 ZTap {
-                    w,
                     c: [4.0 * inv_dr, 0.0, 0.0],
                     k: [j, 0, 0],
                     axis: true,
                 }
             } else {
                 ZTap {
-                    w,
                     c: [rf.ez_out[i], rf.ez_in[i], rf.m_over_r_int[i]],
                     k: [i * nz + j, (i - 1) * nz + j, i * nz + j],
                     axis: false,
                 }
             }
         };
-        let r_tap = |l: usize, w: f64| {
+        let r_tap = |l: usize| {
             let (i, j) = (l / nj1, l % nj1);
             let (s0, k1) = if j < nz {
                 (1.0, i * nz + j)
@@ -519,7 +514,6 @@ impl Coupling {
                 (img(walls.bottom), i * nz)
             };
             RTap {
-                w,
                 mr: rf.m_over_r_half[i],
                 s: [s0, s1],
                 k: [l, k1, k2],
@@ -542,8 +536,8 @@ impl Coupling {
             *v = nr_curls + q;
         }
         let index = CouplingIndex {
-            curl_r: at_r.keys().map(|&l| r_tap(l, 1.0)).collect(),
-            curl_z: at_z.keys().map(|&k| z_tap(k, 1.0)).collect(),
+            curl_r: at_r.keys().map(|&l| r_tap(l)).collect(),
+            curl_z: at_z.keys().map(|&k| z_tap(k)).collect(),
             er: RowIndex::new(&er, nr, nj1, |k, w| (at_z[&k], w)),
             ez: RowIndex::new(&ez, nr + 1, nz, |l, w| (at_r[&l], w)),
             er_er: RowIndex::new(&er_er, nr, nj1, |l, w| (at_r[&l], w)),
@@ -576,16 +570,15 @@ impl Coupling {
             // (∇×H)_r at an E_r node.
             let above = t.s[0] * hphi[t.k[1]];
             let below = t.s[1] * hphi[t.k[2]];
-            *o = t.w * (t.mr * hz[t.k[0]] - (above - below) * idz);
+            *o = t.mr * hz[t.k[0]] - (above - below) * idz;
         }
         for (o, t) in b.iter_mut().zip(&ix.curl_z) {
             // (∇×H)_z at an E_z node.
-            let curl = if t.axis {
+            *o = if t.axis {
                 t.c[0] * hphi[t.k[0]]
             } else {
                 t.c[0] * hphi[t.k[0]] - t.c[1] * hphi[t.k[1]] - t.c[2] * hr[t.k[2]]
             };
-            *o = t.w * curl;
         }
     }
 
