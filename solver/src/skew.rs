@@ -46,9 +46,10 @@
 //! steps on an ε_r 38 sphere (solver/tests/operator.rs), and a run whose
 //! energy grows stops with an error rather than a result. Should the
 //! factorisation fail or give a non-finite entry, the correction is left
-//! out (the pair mean alone: stable, first order). The factorisation runs with `Par::Seq`, so the coefficients do not
-//! depend on the rayon pool. Setup cost, ε_r 38 sphere: 0.015 s on 86 × 86
-//! cells, 0.38 s on 576 × 576 (1 488 coupled nodes, about ten taps each).
+//! out (the pair mean alone: stable, first order). The factorisation runs
+//! with `Par::Seq`, so the coefficients do not depend on the rayon pool.
+//! Setup cost, ε_r 38 sphere: 0.015 s on 86 × 86 cells, 0.38 s on
+//! 576 × 576 (1 488 coupled nodes, about ten taps each).
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::sparse::linalg::lu::{factorize_symbolic_lu, LuRef, NumericLu, SymbolicLu};
 use faer::sparse::{SparseColMat, Triplet};
