@@ -415,6 +415,20 @@ fn write_file(flag: &str, path: &std::path::Path, text: &str) -> Result<(), Fail
     }
 }
 
+/// Warns about every run of `study` that left out the curved-surface
+/// correction (its frequencies then converge at first order, not second).
+fn warn_first_order(study: &lathe::study::Study) {
+    for r in &study.runs {
+        let p = &r.output.report;
+        if let Some(why) = p.surface_correction.and_then(|c| c.reason()) {
+            eprintln!(
+                "warning: run m = {} left out the curved-surface correction ({why}); its frequencies converge at first order in the cell there, not second",
+                p.m
+            );
+        }
+    }
+}
+
 /// Runs the study of `s` with a progress bar, warning about runs that hit
 /// their maximum length and refusing non-finite results.
 fn solve_study(
@@ -436,6 +450,9 @@ fn solve_study(
                 r.report.m, r.report.samples
             );
         }
+    }
+    if !quiet {
+        warn_first_order(&study);
     }
     let bad = study
         .runs
@@ -734,6 +751,9 @@ fn real_main(cli: Cli) -> Result<(), Failure> {
                 let r = pool
                     .install(|| lathe::refine::refine(&s))
                     .map_err(|e| failure(e, &name))?;
+                if !quiet {
+                    r.studies.iter().for_each(warn_first_order);
+                }
                 emit(&output::refined_table(&r));
                 if let Some(path) = &outputs.json {
                     let doc = serde_json::to_string_pretty(&output::refined_json(&r))

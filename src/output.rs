@@ -161,10 +161,23 @@ pub fn json(study: &Study) -> Value {
                 "sample_dt_s": p.sample_dt,
                 "checks": p.checks,
                 "converged": p.converged,
+                "surface_correction": surface_correction_name(p.surface_correction),
             })
         })
         .collect();
     json!({ "modes": modes, "runs": runs })
+}
+
+/// The JSON word for a run's curved-surface correction: `"none"` (no
+/// curved interface), `"applied"`, or `"left out"`.
+fn surface_correction_name(
+    c: Option<lathe_solver::coefficients::SurfaceCorrection>,
+) -> &'static str {
+    match c {
+        None => "none",
+        Some(c) if c.applied() => "applied",
+        Some(_) => "left out",
+    }
 }
 
 /// The plan of every run of `scenario`, as text (what `lathe check`

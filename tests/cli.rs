@@ -61,6 +61,8 @@ fn shipped_example_runs_and_writes_json() {
         let expect =
             r["nr"].as_f64().unwrap() * r["nz"].as_f64().unwrap() * r["steps"].as_f64().unwrap();
         assert_eq!(cu, expect, "cell_updates = cells × steps");
+        // A puck's faces are flat: no off-diagonal coupling to correct.
+        assert_eq!(r["surface_correction"].as_str(), Some("none"), "{r}");
     }
     // The lowest mode of this puck is its TE01δ (its comment says so).
     assert_eq!(modes[0]["m"].as_u64(), Some(0));

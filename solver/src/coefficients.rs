@@ -129,6 +129,7 @@ impl Coefficients {
             }
             let [er, ez, er_er, ez_ez] = lists;
             c.coupling = Some(Coupling {
+                correction: cp.correction,
                 index: cp.index.rescaled(s),
                 er,
                 ez,
@@ -224,6 +225,10 @@ impl RadialFactors {
 /// lists are therefore read-only.
 #[derive(Debug, Clone)]
 pub struct Coupling {
+    /// Whether the curved-surface correction of `solver/src/skew.rs` is in
+    /// the lists (without it, frequencies converge at first order in the
+    /// cell where the coupling acts, not second).
+    pub correction: SurfaceCorrection,
     /// Per E_r node: its flat index and (E_z index, coefficient) taps.
     pub er: Vec<(usize, Vec<(usize, f64)>)>,
     /// Per E_z node: its flat index and (E_r index, coefficient) taps.
@@ -234,6 +239,38 @@ pub struct Coupling {
     /// Per E_z node: its flat index and (E_z index, coefficient) taps.
     pub ez_ez: Vec<(usize, Vec<(usize, f64)>)>,
     index: CouplingIndex,
+}
+
+/// The state of the curved-surface correction of a [`Coupling`] (see
+/// `solver/src/skew.rs`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SurfaceCorrection {
+    /// Computed and in the coupling's lists: second order at curved
+    /// interfaces.
+    Applied,
+    /// Left out: its saddle-point system could not be assembled or
+    /// factorised. The coupling is the symmetric pair mean alone (stable,
+    /// first order at curved interfaces).
+    Singular,
+    /// Left out: it came out with a non-finite entry (as [`Self::Singular`]
+    /// otherwise).
+    NonFinite,
+}
+
+impl SurfaceCorrection {
+    /// Whether the correction is in the coupling.
+    pub fn applied(self) -> bool {
+        self == SurfaceCorrection::Applied
+    }
+
+    /// Why it was left out, in words (`None` when applied).
+    pub fn reason(self) -> Option<&'static str> {
+        match self {
+            SurfaceCorrection::Applied => None,
+            SurfaceCorrection::Singular => Some("its linear system is singular"),
+            SurfaceCorrection::NonFinite => Some("it came out with a non-finite entry"),
+        }
+    }
 }
 
 /// (∇×H)_z at an E_z node as the kernel computes it ([`crate::kernel`]):
@@ -431,7 +468,10 @@ impl Coupling {
             diag: &diag,
             weight: &weight,
         };
-        let y = skew::correction(&layout, &pairs, &t);
+        let (y, correction) = match skew::correction(&layout, &pairs, &t) {
+            Ok(y) => (y, SurfaceCorrection::Applied),
+            Err(why) => (Vec::new(), why),
+        };
         // Merge: cross entries into the pair taps, same-type entries into
         // their own lists; scaled by Δt/ε0.
         let scale = dt / crate::consts::EPS0;
@@ -466,11 +506,14 @@ impl Coupling {
             out
         };
         let (er, ez, er_er, ez_ez) = (lists(cross), lists(back), lists(rr), lists(zz));
-        Some(Coupling::indexed(er, ez, er_er, ez_ez, g, walls, m))
+        let mut cp = Coupling::indexed(er, ez, er_er, ez_ez, g, walls, m);
+        cp.correction = correction;
+        Some(cp)
     }
 
     /// The coupling of these lists (sorted by node, as [`Coupling::new`]
-    /// makes them), with its row index and the curl stencils of its taps.
+    /// makes them), with its row index and the curl stencils of its taps,
+    /// marked [`SurfaceCorrection::Applied`] (the caller says otherwise).
     fn indexed(
         er: Vec<(usize, Vec<(usize, f64)>)>,
         ez: Vec<(usize, Vec<(usize, f64)>)>,
@@ -545,6 +588,7 @@ impl Coupling {
             inv_dz: 1.0 / g.dz,
         };
         Coupling {
+            correction: SurfaceCorrection::Applied,
             er,
             ez,
             er_er,

@@ -17,7 +17,7 @@
 //! stepping itself allocates nothing: fields, coefficients, the source table
 //! and the probe buffers (with their full capacity) exist before the first
 //! step; only the harmonic-inversion checks between chunks allocate.
-use crate::coefficients::Coefficients;
+use crate::coefficients::{Coefficients, SurfaceCorrection};
 use crate::consts::MU0;
 use crate::error::SolverError;
 use crate::excitation::{inject, read};
@@ -65,6 +65,11 @@ pub struct RunReport {
     pub checks: usize,
     /// Whether the stopping rule was met (else the maximum length was hit).
     pub converged: bool,
+    /// The curved-surface correction of the off-diagonal permittivity
+    /// coupling: `None` when no interface is curved (no coupling), else
+    /// whether it was applied or left out, and why (left out, the run's
+    /// frequencies converge at first order in the cell, not second).
+    pub surface_correction: Option<SurfaceCorrection>,
 }
 
 /// The result of one run.
@@ -445,6 +450,7 @@ pub fn run_with(
             sample_dt: plan.sample_dt,
             checks,
             converged,
+            surface_correction: coeffs.coupling.as_ref().map(|cp| cp.correction),
         },
         modes,
         signals,

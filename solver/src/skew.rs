@@ -46,10 +46,13 @@
 //! steps on an ε_r 38 sphere (solver/tests/operator.rs), and a run whose
 //! energy grows stops with an error rather than a result. Should the
 //! factorisation fail or give a non-finite entry, the correction is left
-//! out (the pair mean alone: stable, first order). The factorisation runs
+//! out (the pair mean alone: stable, first order) and the run says so
+//! ([`crate::coefficients::SurfaceCorrection`], in the run report and a
+//! warning of the command line). The factorisation runs
 //! with `Par::Seq`, so the coefficients do not depend on the rayon pool.
 //! Setup cost, ε_r 38 sphere: 0.015 s on 86 × 86 cells, 0.38 s on
 //! 576 × 576 (1 488 coupled nodes, about ten taps each).
+use crate::coefficients::SurfaceCorrection;
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::sparse::linalg::lu::{factorize_symbolic_lu, LuRef, NumericLu, SymbolicLu};
 use faer::sparse::{SparseColMat, Triplet};
@@ -123,12 +126,12 @@ impl Layout<'_> {
 /// The correction Y of the module docs for the symmetric coupling `pairs`
 /// ((E_r node, E_z node, M_lk, M_kl) of N_s, unscaled) and the nodes'
 /// off-diagonal entries `t` (T of the consistent form): every kept entry
-/// (row node, column node, value).
+/// (row node, column node, value); or why it could not be computed.
 pub(crate) fn correction(
     lay: &Layout,
     pairs: &[(usize, usize, f64, f64)],
     t: &dyn Fn(Node) -> f64,
-) -> Vec<(Node, Node, f64)> {
+) -> Result<Vec<(Node, Node, f64)>, SurfaceCorrection> {
     // S = N_c − N_s, by row.
     let mut s: HashMap<Node, Vec<(Node, f64)>> = HashMap::new();
     for &(l, k, mlk, mkl) in pairs {
@@ -143,7 +146,7 @@ pub(crate) fn correction(
         }
     }
     if s.is_empty() {
-        return Vec::new();
+        return Ok(Vec::new());
     }
     // The columns of S (nodes it reads) and the rows (nodes it writes).
     let mut support: Vec<Node> = s.keys().copied().collect();
@@ -222,7 +225,7 @@ pub(crate) fn correction(
         .ok()
         .and_then(|a| SeqLu::new(&a))
     else {
-        return Vec::new();
+        return Err(SurfaceCorrection::Singular);
     };
     // Columns in blocks: z = N_s⁻¹(x − Gφ), then Y e_c = −S z.
     let cols: Vec<Node> = support
@@ -263,10 +266,10 @@ pub(crate) fn correction(
         out.push((a, c, sym));
     }
     if out.iter().any(|x| !x.2.is_finite()) {
-        return Vec::new();
+        return Err(SurfaceCorrection::NonFinite);
     }
     out.sort_by_key(|x| (x.0, x.1));
-    out
+    Ok(out)
 }
 
 /// A sparse LU factorisation that runs with `Par::Seq` throughout, so that

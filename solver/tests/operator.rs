@@ -417,6 +417,39 @@ fn sphere_in_can(cell: f64, eps_r: f64) -> (MaterialMap, Walls) {
 }
 
 #[test]
+fn a_correction_that_cannot_be_computed_is_reported_as_left_out() {
+    // On a sound map the curved-surface correction is applied; when it
+    // cannot be computed (here one coupled node's permittivity is made NaN,
+    // which no fill produces, so that its solve gives non-finite entries)
+    // the coupling keeps the pair mean alone and says why, rather than
+    // dropping the correction silently.
+    use lathe_solver::coefficients::SurfaceCorrection;
+    let (mut map, walls) = sphere_in_can(0.25e-3, 9.3);
+    for m in [0u32, 1, 2] {
+        let c = Coefficients::new(&map, &walls, m, 1.0);
+        let cp = c.coupling.as_ref().expect("a sphere has cut cells");
+        assert_eq!(cp.correction, SurfaceCorrection::Applied, "m {m}");
+        assert!(cp.correction.reason().is_none());
+        assert!(!cp.er_er.is_empty() && !cp.ez_ez.is_empty(), "m {m}");
+        // The same coupling for another step keeps its state.
+        let c2 = c.with_dt(0.5);
+        assert_eq!(c2.coupling.as_ref().unwrap().correction, cp.correction);
+    }
+    let nz = map.grid.nz;
+    let k = (nz..map.ez.inv_eps_rz.len())
+        .find(|&k| map.ez.inv_eps_rz[k] != 0.0 && !map.ez.pec[k])
+        .expect("a coupled E_z node off the axis");
+    map.ez.eps_r[k] = f64::NAN;
+    let c = Coefficients::new(&map, &walls, 1, 1.0);
+    let cp = c.coupling.as_ref().expect("still coupled");
+    assert!(!cp.correction.applied(), "{:?}", cp.correction);
+    assert!(cp.correction.reason().is_some());
+    // Left out: no same-type taps, only the pair mean's cross taps.
+    assert!(cp.er_er.is_empty() && cp.ez_ez.is_empty());
+    assert!(!cp.er.is_empty() && !cp.ez.is_empty());
+}
+
+#[test]
 fn anisotropic_coupling_is_symmetric_and_keeps_the_spectrum_real() {
     // A sphere (ε_r 9.3, radius 1.3 mm) on a PMC plane in a PEC can: its
     // cut cells carry off-diagonal permittivity couplings. The E-from-D map
