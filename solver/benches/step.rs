@@ -7,10 +7,15 @@
 //!
 //! Cases: the upper half of the ε_r 38 benchmark cylinder (PMC mid-plane,
 //! absorbers on the outer radius and the top; tests/open_resonator.rs) at
-//! m = 0, 1, 2, and the ε_r 38 sphere on a PEC plane (curved surface: the
-//! coupling is active) at m = 1. Each round times every variant for the
-//! same number of steps; figures are medians over the rounds. Timing is
-//! printed, never asserted.
+//! m = 0, 1, 2; the dielectric-resonator antenna of
+//! examples/access_point_dra.toml on its ground disk (absorbers on the
+//! outer radius, the bottom and the top: two z layers in every row) at
+//! m = 0, 1, 2; and the ε_r 38 sphere on a PEC plane (curved surface: the
+//! coupling is active) at m = 1, on the default grid and on the two finer
+//! grids of `--refine` (the absorbers keep 16 cells, so they are a smaller
+//! share of the grid). Each round times every variant for the same number
+//! of steps; figures are medians over the rounds. Timing is printed, never
+//! asserted.
 mod common;
 
 use common::*;
@@ -153,5 +158,13 @@ fn report() {
     for m in [0, 1, 2] {
         efficiency("cylinder ε 38, upper ½", &cyl, m);
     }
-    efficiency("sphere ε 38, PEC plane", &sphere_half(), 1);
+    let dra = dra_on_disk();
+    for m in [0, 1, 2] {
+        efficiency("DRA on a ground disk", &dra, m);
+    }
+    efficiency("sphere ε 38, PEC plane", &sphere_half(30.0), 1);
+    // The same sphere on the finer grids of `--refine`: the absorbers keep
+    // their 16 cells, so they are a smaller share of a larger grid.
+    efficiency("  finer, 30√2 cells/λ", &sphere_half(30.0 * 2f64.sqrt()), 1);
+    efficiency("  finer, 60 cells/λ", &sphere_half(60.0), 1);
 }

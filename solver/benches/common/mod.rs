@@ -19,13 +19,13 @@ const MM: f64 = 1e-3;
 const GHZ: f64 = 1e9;
 
 /// An ε_r 38 body on the z = 0 plane (`bottom`) in a square region of
-/// `side` metres, band 4–8 GHz, at the default resolution (30 cells per
-/// wavelength in the dielectric at f_max), with the default 16-cell
-/// absorbers on the outer radius and the top, added beyond the region as
-/// the scenario reader does.
-fn open_eps38(side: f64, shape: Shape, bottom: ZWall) -> Problem {
+/// `side` metres, band 4–8 GHz, `per_wavelength` cells per wavelength in
+/// the dielectric at f_max (30 is the default resolution), with the
+/// default 16-cell absorbers on the outer radius and the top, added beyond
+/// the region as the scenario reader does.
+fn open_eps38(side: f64, shape: Shape, bottom: ZWall, per_wavelength: f64) -> Problem {
     let (f_min, f_max, eps) = (4.0 * GHZ, 8.0 * GHZ, 38.0);
-    let cell = C0 / (f_max * f64::sqrt(eps)) / 30.0;
+    let cell = C0 / (f_max * f64::sqrt(eps)) / per_wavelength;
     let region = Grid::new(side, 0.0, side, cell).unwrap();
     let absorber = Absorber::default_for(f_min);
     let n = absorber.cells;
@@ -64,19 +64,70 @@ pub fn benchmark_half(bottom: ZWall) -> Problem {
         height: 2.3 * MM,
         base: 0.0,
     };
-    open_eps38(16.0 * MM, cylinder, bottom)
+    open_eps38(16.0 * MM, cylinder, bottom, 30.0)
 }
 
 /// The dielectric sphere of tests/open_resonator.rs (ε_r 38, radius
 /// 4.7 mm) on a PEC plane through its centre, region 14 mm × 14 mm (see
 /// [`open_eps38`]): a curved surface, so the off-diagonal permittivity
-/// coupling is active.
-pub fn sphere_half() -> Problem {
+/// coupling is active. `per_wavelength` cells per wavelength in the
+/// dielectric at 8 GHz: 30 is the default resolution (86 × 86 cells), 30√2
+/// and 60 the finer grids of `lathe modes --refine`.
+pub fn sphere_half(per_wavelength: f64) -> Problem {
     let sphere = Shape::Sphere {
         radius: 4.7 * MM,
         center: 0.0,
     };
-    open_eps38(14.0 * MM, sphere, ZWall::Pec)
+    open_eps38(14.0 * MM, sphere, ZWall::Pec, per_wavelength)
+}
+
+/// The dielectric-resonator antenna of examples/access_point_dra.toml: an
+/// ε_r 12.8 puck (radius 6.05 mm, height 5.4 mm) on a PEC ground disk
+/// (radius 26.5 mm, 1.5 mm thick, top face at z = 0), absorbers on the
+/// outer radius, the bottom and the top, band 4.6–7.4 GHz, on the grid
+/// `lathe check` prints for that file (121 × 120 cells of 0.3765 ×
+/// 0.3747 mm from z = −20.529 mm, the absorbers' 16 cells included): the
+/// main job's grid, with two z layers in every row.
+pub fn dra_on_disk() -> Problem {
+    let (f_min, f_max) = (4.6 * GHZ, 7.4 * GHZ);
+    let grid = Grid {
+        nr: 121,
+        nz: 120,
+        dr: 45.559 * MM / 121.0,
+        dz: (24.429 + 20.529) * MM / 120.0,
+        z0: -20.529 * MM,
+    };
+    let disk = Body {
+        shape: Shape::Cylinder {
+            radius: 26.5 * MM,
+            height: 1.5 * MM,
+            base: -1.5 * MM,
+        },
+        material: Material::Pec,
+    };
+    let puck = Body {
+        shape: Shape::Cylinder {
+            radius: 6.05 * MM,
+            height: 5.4 * MM,
+            base: 0.0,
+        },
+        material: Material::Dielectric {
+            eps_r: 12.8,
+            loss_tangent: 0.0,
+        },
+    };
+    let absorber = Absorber::default_for(f_min);
+    Problem {
+        materials: fill(&grid, &[disk, puck], FillOptions::default()),
+        walls: Walls {
+            bottom: ZWall::Pml(absorber),
+            top: ZWall::Pml(absorber),
+            outer: OuterWall::Pml(absorber),
+        },
+        f_min,
+        f_max,
+        options: RunOptions::default(),
+    }
 }
 
 /// A closed can of `nr × nz` cells of 0.1 mm (PEC bottom and outer wall,
