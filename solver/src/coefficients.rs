@@ -267,7 +267,7 @@ impl SurfaceCorrection {
     pub fn reason(self) -> Option<&'static str> {
         match self {
             SurfaceCorrection::Applied => None,
-            SurfaceCorrection::Singular => Some("its linear system is singular"),
+            SurfaceCorrection::Singular => Some("its linear system could not be factorised"),
             SurfaceCorrection::NonFinite => Some("it came out with a non-finite entry"),
         }
     }

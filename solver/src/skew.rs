@@ -48,8 +48,8 @@
 //! factorisation fail or give a non-finite entry, the correction is left
 //! out (the pair mean alone: stable, first order) and the run says so
 //! ([`crate::coefficients::SurfaceCorrection`], in the run report and a
-//! warning of the command line). The factorisation runs
-//! with `Par::Seq`, so the coefficients do not depend on the rayon pool.
+//! warning of the command line). The factorisation runs with `Par::Seq`,
+//! so the coefficients do not depend on the rayon pool.
 //! Setup cost, ε_r 38 sphere: 0.015 s on 86 × 86 cells, 0.38 s on
 //! 576 × 576 (1 488 coupled nodes, about ten taps each).
 use crate::coefficients::SurfaceCorrection;
