@@ -1,5 +1,5 @@
-//! The fused full step (`kernel::step`: each row's bulk update with the
-//! absorber's z-layer terms folded into its loop, then the row's radial
+//! The fused full step (`kernel::step`: each row's bulk update, then at
+//! once the absorber's terms of that row, its z-layer spans and its radial
 //! terms) gives the same bits as the step taken as whole passes
 //! (`update_h`, `Pml::correct_h`, `update_e`, `Pml::correct_e`), on one
 //! thread and with rows split over two. An exact check (no tolerance): both
