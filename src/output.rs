@@ -154,6 +154,7 @@ pub fn json(study: &Study) -> Value {
                 "cell_z_mm": p.dz * 1e3,
                 "dt_s": p.dt,
                 "dt_limit_s": p.dt_max,
+                "axis_rod_mm": p.axis_rod as f64 * p.dr * 1e3,
                 "steps": p.steps,
                 "cell_updates": p.cell_updates,
                 "seconds": p.seconds,
@@ -375,6 +376,15 @@ fn plan_one(
             p.stability.iterations,
             p.stability.dt_cartesian
         );
+        if p.axis_rod > 0 {
+            let _ = writeln!(
+                s,
+                "  axis        E held at zero for r ≤ {:.4} mm ({} cell(s)): order {m} fields vanish there as {}",
+                p.axis_rod as f64 * g.dr * 1e3,
+                p.axis_rod,
+                if m == 2 { "r".to_string() } else { format!("r^{}", m - 1) }
+            );
+        }
         let _ = writeln!(
             s,
             "  pulse       centre {:.4} GHz, σ_f {:.4} GHz, {} steps",

@@ -42,6 +42,9 @@ pub struct Coefficients {
     pub hz_out: Vec<f64>,
     /// r_i/(r_{i+½} Δr) for H_z rows (0 at i = 0: r E_φ vanishes on the axis).
     pub hz_in: Vec<f64>,
+    /// Rows of the axis rod ([`axis_rod_rows`]): E nodes held at zero
+    /// near the axis for orders m ≥ 2; 0 for none.
+    pub axis_rod: usize,
     /// Split rows over the rayon pool (see [`crate::kernel`] and
     /// [`crate::RunOptions::row_parallel_cells`]).
     pub row_parallel: bool,
@@ -54,9 +57,68 @@ pub struct Coefficients {
     pub top: ZWall,
 }
 
+/// Rows of the axis rod for order `m`: ⌊m/2⌋ for m ≥ 2, none (0) below.
+///
+/// Near the axis the fields of order m ≥ 2 vanish as r^(m−1) (E_r, E_φ,
+/// H_r, H_φ) and r^m (E_z, H_z), but the update's m/r terms grow as 1/r:
+/// the nodes next to the axis carry the largest eigenvalue of the
+/// curl-curl operator, and the step limit of [`crate::stability`] falls
+/// roughly as 1/m. The rod holds every E node with r ≤ ρ = ⌊m/2⌋ Δr at zero
+/// ([`in_axis_rod`]), as a PEC rod of radius ρ on the axis would. The
+/// largest m/r left is then that of the first free E_r row,
+/// m/((⌊m/2⌋ + ½)Δr) ≤ 2/Δr, the same as at m = 1, so every order steps at
+/// about the m = 1 limit or better.
+///
+/// What the rod costs: the field a PEC rod of radius ρ scatters from a
+/// field ∝ J_m(kr) is ∝ J_m(kρ)/Y_m(kρ) ≈ −π(kρ/2)^(2m)/(m!(m−1)!), so a
+/// mode's frequency moves by O((kρ)^(2m)), k the wavenumber where the rod
+/// stands (small-argument forms of J_m and Y_m, Abramowitz & Stegun 9.1.7
+/// and 9.1.11). At the default resolution (kΔr ≈ 2π/30 in the densest
+/// material) that is below 1e-4 at m = 2 and smaller for higher m; the
+/// measured shifts are in `solver/tests/axis_rod.rs`.
+///
+/// The rod ends on a whole row of E_φ and E_z nodes, like every PEC wall of
+/// the grid. Ending it half a row sooner (E_r of the last half row held,
+/// E_φ and E_z beyond it free) leaves an H_z node driven by a single E_φ
+/// node, and with the z absorbers that grew without bound at m = 2 and 4
+/// (measured; the lossless operator itself stayed stable).
+pub fn axis_rod_rows(m: u32) -> usize {
+    if m >= 2 {
+        (m / 2) as usize
+    } else {
+        0
+    }
+}
+
+/// Whether the E node of component `c` in row `i` lies in an axis rod of
+/// `rod` rows ([`axis_rod_rows`]): E_φ and E_z of the integer rows
+/// i ≤ `rod`, E_r of the half rows i + ½ < `rod`. Never an H node.
+pub fn in_axis_rod(c: Component, i: usize, rod: usize) -> bool {
+    rod > 0
+        && match c {
+            Component::Er => i < rod,
+            Component::Ephi | Component::Ez => i <= rod,
+            _ => false,
+        }
+}
+
 impl Coefficients {
-    /// Coefficients for order `m` and step `dt` on `map` with `walls`.
+    /// Coefficients for order `m` and step `dt` on `map` with `walls`, with
+    /// the axis rod of [`axis_rod_rows`].
     pub fn new(map: &MaterialMap, walls: &Walls, m: u32, dt: f64) -> Coefficients {
+        Coefficients::with_axis_rod(map, walls, m, dt, axis_rod_rows(m))
+    }
+
+    /// Coefficients for order `m` and step `dt` on `map` with `walls`, E
+    /// nodes held in an axis rod of `rod` rows ([`in_axis_rod`]; 0 for
+    /// none).
+    pub fn with_axis_rod(
+        map: &MaterialMap,
+        walls: &Walls,
+        m: u32,
+        dt: f64,
+        rod: usize,
+    ) -> Coefficients {
         let g = &map.grid;
         let (nr, nz) = (g.nr, g.nz);
         let cb = |c: Component| -> Vec<f64> {
@@ -78,7 +140,8 @@ impl Coefficients {
                                 && walls.top.is_conducting()
                                 && c != Component::Ez)
                             || (r_int && i == ni - 1)
-                            || (r_int && i == 0 && (c == Component::Ephi || m >= 1));
+                            || (r_int && i == 0 && (c == Component::Ephi || m >= 1))
+                            || in_axis_rod(c, i, rod);
                     if held {
                         v[i * nj + j] = 0.0;
                     }
@@ -104,8 +167,9 @@ impl Coefficients {
             ez_in: rf.ez_in,
             hz_out: rf.hz_out,
             hz_in: rf.hz_in,
+            axis_rod: rod,
             row_parallel: false,
-            coupling: Coupling::new(map, walls, m, dt),
+            coupling: Coupling::new(map, walls, m, dt, rod),
             bottom: walls.bottom,
             top: walls.top,
         }
@@ -364,9 +428,10 @@ impl CouplingIndex {
 }
 
 impl Coupling {
-    /// The coupling of `map` for order `m` and step `dt`, or `None` when no
-    /// node has an off-diagonal permittivity.
-    pub fn new(map: &MaterialMap, walls: &Walls, m: u32, dt: f64) -> Option<Coupling> {
+    /// The coupling of `map` for order `m` and step `dt` with an axis rod
+    /// of `rod` rows ([`in_axis_rod`]), or `None` when no node has an
+    /// off-diagonal permittivity.
+    pub fn new(map: &MaterialMap, walls: &Walls, m: u32, dt: f64, rod: usize) -> Option<Coupling> {
         let g = &map.grid;
         if map
             .er
@@ -383,8 +448,14 @@ impl Coupling {
             map.er.pec[i * nj1 + j]
                 || (j == 0 && walls.bottom.is_conducting())
                 || (j == nz && walls.top.is_conducting())
+                || in_axis_rod(Component::Er, i, rod)
         };
-        let held_ez = |i: usize, j: usize| map.ez.pec[i * nz + j] || i == nr || (i == 0 && m >= 1);
+        let held_ez = |i: usize, j: usize| {
+            map.ez.pec[i * nz + j]
+                || i == nr
+                || (i == 0 && m >= 1)
+                || in_axis_rod(Component::Ez, i, rod)
+        };
         let w_er = |i: usize, j: usize| {
             let mut w = g.r_half(i);
             if (j == 0 && walls.bottom == ZWall::Pmc) || (j == nz && walls.top == ZWall::Pmc) {
@@ -432,6 +503,7 @@ impl Coupling {
                 || (j == nz && walls.top.is_conducting())
                 || i == nr
                 || i == 0
+                || in_axis_rod(Component::Ephi, i, rod)
         };
         let free = |(c, k): skew::Node| match c {
             0 => !held_er(k / nj1, k % nj1),

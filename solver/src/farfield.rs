@@ -304,6 +304,9 @@ pub struct ModeData<'a> {
     pub walls: &'a Walls,
     /// Materials of the run (ε per electric node).
     pub materials: &'a MaterialMap,
+    /// Rows of the run's axis rod (see
+    /// [`crate::coefficients::axis_rod_rows`]).
+    pub axis_rod: usize,
     /// `Some(Δt)` when the phasors come from a running transform over a
     /// real ring-down stepped at Δt (then the transform's negative-frequency
     /// image is removed, see [`Leakage`]); `None` for exact phasors.
@@ -331,6 +334,7 @@ impl<'a> ModeData<'a> {
             grid: &run.grid,
             walls: &run.walls,
             materials,
+            axis_rod: run.report.axis_rod,
             ring_down_dt: Some(run.report.dt),
         })
     }

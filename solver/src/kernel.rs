@@ -37,7 +37,10 @@
 //!   the axis gives them as e_φ(0) = −e_r(0) and h_r(0) = h_φ(0), which
 //!   [`fill_axis`] evaluates (second order, from the even extension of e_r
 //!   and h_φ across the axis) when fields are read out.
-//! - **m ≥ 2**: every axis value is zero.
+//! - **m ≥ 2**: every axis value is zero. Beyond that, the E nodes within
+//!   r ≤ ⌊m/2⌋ Δr are held at zero by default (zero `cb`, a thin PEC rod;
+//!   see [`crate::coefficients::axis_rod_rows`]): their m/r terms would set
+//!   the time-step limit, while the fields there are O(r^(m−1)).
 //!
 //! The off-axis H_z(½) update uses the full annulus `0 … Δr` (its inner
 //! coefficient is zero), so no axis value is needed there either.

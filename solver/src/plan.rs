@@ -7,11 +7,11 @@
 //! sit, and how much memory it takes. `lathe check` prints it; [`crate::run()`]
 //! executes it.
 use crate::boundary::Walls;
-use crate::coefficients::Coefficients;
+use crate::coefficients::{axis_rod_rows, Coefficients};
 use crate::error::SolverError;
 use crate::excitation::{place, Point, Pulse};
 use crate::harminv::FdmOptions;
-use crate::stability::{stability_limit, StabilityLimit};
+use crate::stability::{stability_limit_with_rod, StabilityLimit};
 use lathe_mesh::MaterialMap;
 
 /// The solver's input: a filled grid, its walls, the band and options.
@@ -72,6 +72,11 @@ pub struct RunOptions {
     /// transforms of one run also never take more than
     /// [`crate::modefield::MAX_BYTES`].
     pub max_mode_fields: usize,
+    /// Hold the E nodes near the axis at zero for orders m ≥ 2 (the axis
+    /// rod of [`crate::coefficients::axis_rod_rows`]: r ≤ ⌊m/2⌋ Δr), so
+    /// that those orders step at about the m = 1 limit instead of one that
+    /// falls as 1/m. Default true.
+    pub axis_rod: bool,
     /// Harmonic-inversion options.
     pub fdm: FdmOptions,
 }
@@ -101,6 +106,7 @@ impl Default for RunOptions {
             row_parallel_cells: 4096,
             max_memory: 4 << 30,
             max_mode_fields: 48,
+            axis_rod: true,
             fdm,
         }
     }
@@ -111,6 +117,9 @@ impl Default for RunOptions {
 pub struct RunPlan {
     /// Azimuthal order.
     pub m: u32,
+    /// Rows of the axis rod (E nodes held at r ≤ `axis_rod` Δr; 0 for
+    /// none; see [`crate::coefficients::axis_rod_rows`]).
+    pub axis_rod: usize,
     /// Stability analysis of the discrete operator.
     pub stability: StabilityLimit,
     /// The time step, s.
@@ -170,7 +179,8 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
     }
     let o = &problem.options;
     let map = &problem.materials;
-    let stability = stability_limit(map, &problem.walls, m);
+    let axis_rod = if o.axis_rod { axis_rod_rows(m) } else { 0 };
+    let stability = stability_limit_with_rod(map, &problem.walls, m, axis_rod);
     if stability.iterations == 0 {
         return Err(SolverError::NothingToSolve { m });
     }
@@ -185,7 +195,7 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
     let samples_for = |periods: f64| (periods / (f_min * sample_dt)).ceil() as usize;
     let max_samples = samples_for(o.max_periods).max(64);
     let first_check = samples_for(o.min_periods).clamp(64, max_samples);
-    let coeffs = Coefficients::new(map, &problem.walls, m, dt);
+    let coeffs = Coefficients::with_axis_rod(map, &problem.walls, m, dt, axis_rod);
     let (sources, probes) = place(map, &coeffs, o.sources, o.probes);
     if sources.is_empty() {
         return Err(SolverError::Placement { m, what: "sources" });
@@ -225,6 +235,7 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
     }
     Ok(RunPlan {
         m,
+        axis_rod,
         stability,
         dt,
         pulse,

@@ -51,6 +51,9 @@ pub struct RunReport {
     pub dt: f64,
     /// Stability limit, s.
     pub dt_max: f64,
+    /// Rows of the axis rod (E held at r ≤ `axis_rod` Δr; 0 for none; see
+    /// [`crate::coefficients::axis_rod_rows`]).
+    pub axis_rod: usize,
     /// Time steps taken.
     pub steps: usize,
     /// Cells × steps.
@@ -208,7 +211,7 @@ pub fn run_with(
     progress.started(m, planned_cell_updates(problem, plan));
     let map = &problem.materials;
     let g = &map.grid;
-    let mut coeffs = Coefficients::new(map, &problem.walls, m, plan.dt);
+    let mut coeffs = Coefficients::with_axis_rod(map, &problem.walls, m, plan.dt, plan.axis_rod);
     coeffs.row_parallel = problem.options.splits_rows(g.cells());
     let mut f = Fields::zeros(g);
     let mut pml = Pml::new(g, &problem.walls, plan.dt);
@@ -443,6 +446,7 @@ pub fn run_with(
             dz: g.dz,
             dt: plan.dt,
             dt_max: plan.stability.dt_max,
+            axis_rod: plan.axis_rod,
             steps: step,
             cell_updates: (g.cells() as u64) * step as u64,
             seconds: start.elapsed().as_secs_f64(),

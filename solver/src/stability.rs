@@ -42,10 +42,22 @@ pub struct StabilityLimit {
     pub dt_cartesian: f64,
 }
 
-/// Computes the stability limit of order `m` on `map` with `walls`.
+/// Computes the stability limit of order `m` on `map` with `walls`, with the
+/// axis rod of [`crate::coefficients::axis_rod_rows`].
 pub fn stability_limit(map: &MaterialMap, walls: &Walls, m: u32) -> StabilityLimit {
+    stability_limit_with_rod(map, walls, m, crate::coefficients::axis_rod_rows(m))
+}
+
+/// Computes the stability limit of order `m` on `map` with `walls` and an
+/// axis rod of `rod` rows ([`crate::coefficients::in_axis_rod`]; 0 for none).
+pub fn stability_limit_with_rod(
+    map: &MaterialMap,
+    walls: &Walls,
+    m: u32,
+    rod: usize,
+) -> StabilityLimit {
     let g = &map.grid;
-    let c1 = Coefficients::new(map, walls, m, 1.0);
+    let c1 = Coefficients::with_axis_rod(map, walls, m, 1.0, rod);
     let weights = node_weights(&c1, map, walls);
     let n = weights.len();
     let mut f = Fields::zeros(g);

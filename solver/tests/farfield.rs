@@ -155,6 +155,7 @@ fn radiator<'a>(
         grid: &s.grid,
         walls: &s.walls,
         materials: &s.map,
+        axis_rod: 0,
         ring_down_dt: None,
     };
     let mut o = FarFieldOptions::new(lower);
@@ -721,6 +722,7 @@ fn a_body_on_the_surface_and_a_closed_region_are_errors() {
         grid: &s.grid,
         walls: &s.walls,
         materials: &s.map,
+        axis_rod: 0,
         ring_down_dt: None,
     };
     let err = Radiator::new(data, &FarFieldOptions::new(LowerSpace::Open)).unwrap_err();
@@ -893,6 +895,7 @@ fn a_known_negative_frequency_image_is_found_and_removed() {
         grid: &c.setup.grid,
         walls: &c.setup.walls,
         materials: &c.setup.map,
+        axis_rod: 0,
         ring_down_dt: Some(dt),
     };
     let opts = FarFieldOptions {

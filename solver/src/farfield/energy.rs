@@ -227,7 +227,7 @@ pub(crate) fn displacement(rad: &Radiator) -> [Vec<C>; 3] {
         diag(Component::Ephi),
         diag(Component::Ez),
     ];
-    let Some(cp) = Coupling::new(map, rad.data.walls, rad.data.m, 1.0) else {
+    let Some(cp) = Coupling::new(map, rad.data.walls, rad.data.m, 1.0, rad.data.axis_rod) else {
         return d;
     };
     // Unknowns: the coupled E_r nodes, then the coupled E_z nodes (every
