@@ -363,7 +363,7 @@ fn benchmark_cylinder_five_modes_in_half_a_billion_cell_updates() {
         ("HEM21δ", 7.7567, 337.39),
     ];
     // Region ±10 mm (the absorber 4.75 mm from the body's side), 20 cells
-    // per wavelength, 10-cell absorbers: measured 2.279 × 10⁸ cell updates,
+    // per wavelength, 10-cell absorbers: measured 1.901 × 10⁸ cell updates,
     // every f within 0.08 % and every Q within 1.41 % of both references
     // (HEM12δ's Q the largest).
     let s = whole_cylinder(10.0, "cells_per_wavelength = 20", "pml_cells = 10");
