@@ -14,7 +14,10 @@ pub enum SolverError {
         f_max: f64,
     },
     /// Every electric node is held at zero.
-    #[error("run m = {m}: every electric node is held at zero (all metal?)")]
+    #[error(
+        "run m = {m}: every electric node is held at zero (all metal, or for m ≥ 2 a grid no wider than the {} cell(s) held at the axis)",
+        .m / 2
+    )]
     NothingToSolve {
         /// Order.
         m: u32,
