@@ -35,6 +35,7 @@
 //! | `wall_outer`, `wall_bottom`, `wall_top` | string | `"pec"`, `"pmc"` or `"pml"`: the wall at r = radius, z = `z0`, z = top |
 //! | `absorber_cells_outer`, `absorber_cells_bottom`, `absorber_cells_top` | int | absorber (PML) thickness in cells at that wall, 0 for none |
 //! | `nr`, `nz` | int | cells of the grid in r and z |
+//! | `axis_rod_cells` | int | for m ≥ 2, E was held at zero for r ≤ `axis_rod_cells`·`dr` (the axis rod, where the fields of order m vanish as r^(m−1)); 0 for none. Files written before it existed have no such attribute and no rod |
 //! | `dr`, `dz`, `z0` | real | radial and axial step and the bottom plane, m |
 //! | `transform_frequency_hz` | real | frequency of the running Fourier transform the field came from, Hz |
 //! | `transform_samples` | int | samples that transform summed |
@@ -232,6 +233,9 @@ pub struct ModeRecord<'a> {
     pub walls: Walls,
     /// The grid of the run (absorber cells included).
     pub grid: &'a Grid,
+    /// Rows of the run's axis rod (E held at r ≤ `axis_rod`·Δr; 0 for
+    /// none).
+    pub axis_rod: usize,
     /// The field, six components on `grid` in the order of
     /// [`Component::ALL`].
     pub field: &'a ModeField,
@@ -258,6 +262,7 @@ impl<'a> ModeRecord<'a> {
             plane: SymmetryPlane::from_plane(plane),
             walls: run.walls,
             grid: &run.grid,
+            axis_rod: run.report.axis_rod,
             field,
         }
     }
@@ -358,6 +363,8 @@ pub struct StoredMode {
     pub walls: WallNames,
     /// Absorber cells.
     pub absorber: AbsorberCells,
+    /// Attribute `axis_rod_cells` (0 when the file has none).
+    pub axis_rod: usize,
     /// The grid, rebuilt from `nr`, `nz`, `dr`, `dz`, `z0`.
     pub grid: Grid,
     /// Dataset `r_int`.
@@ -427,6 +434,7 @@ pub fn write(path: &Path, records: &[ModeRecord]) -> Result<(), FieldFileError> 
         grp.set_attr("absorber_cells_top", AttrValue::I64(cells.top as i64));
         grp.set_attr("nr", AttrValue::I64(g.nr as i64));
         grp.set_attr("nz", AttrValue::I64(g.nz as i64));
+        grp.set_attr("axis_rod_cells", AttrValue::I64(r.axis_rod as i64));
         grp.set_attr("dr", AttrValue::F64(g.dr));
         grp.set_attr("dz", AttrValue::F64(g.dz));
         grp.set_attr("z0", AttrValue::F64(g.z0));
@@ -757,6 +765,10 @@ pub fn read(path: &Path) -> Result<FieldFile, FieldFileError> {
                 outer: int("absorber_cells_outer")? as usize,
                 bottom: int("absorber_cells_bottom")? as usize,
                 top: int("absorber_cells_top")? as usize,
+            },
+            axis_rod: match a.get("axis_rod_cells") {
+                None => 0,
+                Some(_) => int("axis_rod_cells")? as usize,
             },
             r_int: f64_set("r_int", nr + 1)?,
             r_half: f64_set("r_half", nr)?,

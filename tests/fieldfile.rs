@@ -250,6 +250,7 @@ fn synthetic_records<'a>(
         plane: SymmetryPlane::Pmc,
         walls,
         grid,
+        axis_rod: m as usize / 2,
         field: &fields[k],
     };
     vec![
@@ -285,6 +286,7 @@ fn records_are_sorted_and_keep_walls_absorbers_and_odd_bits() {
         assert_eq!(md.label, rec.label);
         assert_eq!(md.q_is_lower_bound, k == 1);
         assert_eq!(md.q, rec.q);
+        assert_eq!(md.axis_rod, rec.axis_rod);
         assert_eq!(md.plane, SymmetryPlane::Pmc);
         assert_eq!(
             (
