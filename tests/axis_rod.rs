@@ -21,12 +21,11 @@
 use lathe::mesh::Component;
 use lathe::scenario::Scenario;
 use lathe::solver::coefficients::{axis_rod_rows, in_axis_rod, Coefficients};
+use lathe::solver::consts::C0;
 use lathe::solver::kernel::step;
 use lathe::solver::pml::Pml;
 use lathe::solver::stability::stability_limit_with_rod;
 use lathe::solver::{plan, solve, Fields, Problem};
-
-const C0: f64 = 299_792_458.0;
 
 /// A PEC can filled with ε_r 4.7 (radius 6.3 mm, length 9.1 mm) at `cell` mm.
 fn cavity(cell: f64, ms: &str, band: (f64, f64)) -> Scenario {
@@ -175,6 +174,14 @@ fn rod_moves_a_cavity_mode_by_less_than_its_estimate_at_the_rate_of_its_order() 
     assert!(rated >= 3, "only {rated} ratios");
 }
 
+/// The next value of a xorshift sequence in `state`, uniform in [−½, ½).
+fn uniform(state: &mut u64) -> f64 {
+    *state ^= *state << 13;
+    *state ^= *state >> 7;
+    *state ^= *state << 17;
+    (*state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+}
+
 /// Field energy proxy: the sum of squares of every component.
 fn norm2(f: &Fields) -> f64 {
     Component::ALL
@@ -192,10 +199,7 @@ fn growth(p: &Problem, coeffs: &Coefficients, dt: f64, steps: usize) -> f64 {
     let mut state = 0x2545_F491_4F6C_DD1Du64;
     for c in Component::ALL {
         for x in f.get_mut(c).iter_mut() {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            *x = (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5;
+            *x = uniform(&mut state);
         }
     }
     let mut start = 0.0;
@@ -249,16 +253,9 @@ fn half_row_limit(p: &Problem, c1: &Coefficients) -> f64 {
     let mut x = Fields::zeros(g);
     let mut state = 0x9E37_79B9_7F4A_7C15u64;
     for c in [Component::Er, Component::Ephi, Component::Ez] {
-        let cb = c1.cb(c).to_vec();
-        for (v, w) in x.get_mut(c).iter_mut().zip(&cb) {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            *v = if *w != 0.0 {
-                (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
-            } else {
-                0.0
-            };
+        for (v, w) in x.get_mut(c).iter_mut().zip(c1.cb(c)) {
+            let u = uniform(&mut state);
+            *v = if *w != 0.0 { u } else { 0.0 };
         }
     }
     let mut lambda = 0.0;

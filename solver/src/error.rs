@@ -15,8 +15,7 @@ pub enum SolverError {
     },
     /// Every electric node is held at zero.
     #[error(
-        "run m = {m}: every electric node is held at zero (all metal, or for m ≥ 2 a grid no wider than the {} cell(s) held at the axis)",
-        .m / 2
+        "run m = {m}: every electric node is held at zero (all metal, or, for m ≥ 2, a grid no wider than the ⌊m/2⌋ cells held at the axis)"
     )]
     NothingToSolve {
         /// Order.

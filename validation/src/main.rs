@@ -148,7 +148,7 @@ fn convergence_case(out: &mut String, tot: &mut Totals) -> Result<()> {
     let cells = [0.4, 0.2, 0.1];
     writeln!(
         out,
-        "### Convergence, `{file}`\n\nSource: as above. Cells {cells:?} mm; ratio = error(h)/error(h/2), expected 4 for a second-order scheme (acceptance 3.5 … 4.5). The scheme's own rate, so without the axis rod of orders m ≥ 2 (`RunOptions::axis_rod`); the rod adds a shift of order Δr^(2m), checked at that rate in `tests/axis_rod.rs`. The last column is the error at 0.4 mm as runs make it by default, with the rod (not checked here: every mode of this case is checked with it above).\n"
+        "### Convergence, `{file}`\n\nSource: as above. Cells {cells:?} mm; ratio = error(h)/error(h/2), expected 4 for a second-order scheme (acceptance 3.5 … 4.5). The scheme's own rate, so without the axis rod of orders m ≥ 2 (`RunOptions::axis_rod`); the rod adds a shift of order Δr^(2m), checked at that rate in `tests/axis_rod.rs`. The last column is the error at 0.4 mm as runs make it by default, with the rod (not checked here: with it, every mode of this case is checked at the default resolution above).\n"
     )?;
     let errors = |runs: &[RunOutput], s: &Scenario| {
         let mut v = Vec::new();
