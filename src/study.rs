@@ -12,7 +12,9 @@
 use crate::scenario::{Scenario, ScenarioError};
 use lathe_mesh::Shape;
 use lathe_solver::run::label_runs;
-use lathe_solver::{solve_with, Mode, Problem, Progress, RunOutput, Silent, SolverError, ZWall};
+use lathe_solver::{
+    solve_each_with, Mode, Problem, Progress, RunOutput, Silent, SolverError, ZWall,
+};
 
 /// One solved run and the symmetry plane it was solved over, if any.
 #[derive(Debug, Clone)]
@@ -232,21 +234,13 @@ pub fn run_study_with(
     for (_, _, p) in probs.iter_mut() {
         p.options.max_memory = share;
     }
-    let solved: Vec<Result<Vec<RunOutput>, SolverError>> = match probs.as_slice() {
-        [(_, _, p)] => vec![solve_with(p, &s.m, progress)],
-        [(_, _, p), (_, _, q)] => {
-            let (a, b) = rayon::join(
-                || solve_with(p, &s.m, progress),
-                || solve_with(q, &s.m, progress),
-            );
-            vec![a, b]
-        }
-        _ => unreachable!("one or two problems"),
-    };
+    // Both halves' runs share the pool, longest first (`solve_each_with`).
+    let each: Vec<&Problem> = probs.iter().map(|(_, _, p)| p).collect();
+    let solved = solve_each_with(&each, &s.m, progress).map_err(StudyError::Run)?;
     let mut runs = Vec::new();
     let mut outputs: Vec<(Option<ZWall>, Vec<RunOutput>)> = Vec::new();
     for ((plane, _, _), r) in probs.iter().zip(solved) {
-        outputs.push((*plane, r.map_err(StudyError::Run)?));
+        outputs.push((*plane, r));
     }
     label_runs(
         &mut outputs

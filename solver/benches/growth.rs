@@ -44,8 +44,9 @@ mod common;
 use common::*;
 use lathe_solver::coefficients::Coefficients;
 use lathe_solver::fpu::FlushSubnormals;
-use lathe_solver::kernel::step;
+use lathe_solver::kernel::step_on;
 use lathe_solver::pml::Pml;
+use lathe_solver::team::with_team;
 use lathe_solver::{plan, Fields};
 use std::fmt::Write as _;
 use std::io::Write as _;
@@ -136,12 +137,14 @@ fn measure(side: usize, dt: f64, pools: &[rayon::ThreadPool; 2]) -> Row {
     let mut steps = [0usize; 2];
     for (k, p) in pools.iter().enumerate() {
         c.row_parallel = THREADS[k] > 1;
-        p.install(|| step(&mut f, &c, pml.as_mut())); // warm-up
-        let t = seconds(|| {
-            p.install(|| {
-                for _ in 0..3 {
-                    step(&mut f, &c, pml.as_mut());
-                }
+        let t = p.install(|| {
+            with_team(c.row_parallel, |team| {
+                step_on(&mut f, &c, pml.as_mut(), team); // warm-up
+                seconds(|| {
+                    for _ in 0..3 {
+                        step_on(&mut f, &c, pml.as_mut(), team);
+                    }
+                })
             })
         });
         // 10 % over the least time, for the scatter of the estimate.
@@ -152,11 +155,13 @@ fn measure(side: usize, dt: f64, pools: &[rayon::ThreadPool; 2]) -> Row {
         for (k, p) in pools.iter().enumerate() {
             c.row_parallel = THREADS[k] > 1;
             let n = steps[k];
-            let t = seconds(|| {
-                p.install(|| {
-                    for _ in 0..n {
-                        step(&mut f, &c, pml.as_mut());
-                    }
+            let t = p.install(|| {
+                with_team(c.row_parallel, |team| {
+                    seconds(|| {
+                        for _ in 0..n {
+                            step_on(&mut f, &c, pml.as_mut(), team);
+                        }
+                    })
                 })
             });
             times[k].push(t / n as f64);

@@ -23,7 +23,7 @@ use lathe_mesh::{fill, Body, FillOptions, Grid, Material, Shape};
 use lathe_solver::consts::C0;
 use lathe_solver::{solve, Absorber, OuterWall, Problem, RunOptions, RunOutput, Walls, ZWall};
 
-const ROUNDS: usize = 3;
+const ROUNDS: usize = 5;
 
 fn pool(threads: usize) -> rayon::ThreadPool {
     rayon::ThreadPoolBuilder::new()

@@ -4,7 +4,7 @@
 //! [`step_rate`] times the full leapfrog step of a problem — H and E
 //! updates, absorber corrections, the same coefficients a run uses — on
 //! scratch fields, in the calling thread pool (so a rayon pool of n threads
-//! measures n threads). Nothing of a run is stepped; the figure is cell
+//! measures n threads, its rows split over a [`crate::team::Team`]). Nothing of a run is stepped; the figure is cell
 //! updates per second, the unit of `cell_updates` in every report.
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
@@ -18,27 +18,29 @@ use std::time::Instant;
 /// steps) after one warm-up step. Run inside a rayon pool to measure that
 /// pool's thread count. Wall-clock based: a loaded machine measures slower.
 pub fn step_rate(problem: &Problem, m: u32, dt: f64, min_seconds: f64) -> f64 {
-    let _ftz = FlushSubnormals::new();
     let map = &problem.materials;
     let g = &map.grid;
     let mut coeffs = Coefficients::new(map, &problem.walls, m, dt);
     coeffs.row_parallel = problem.options.splits_rows(g.cells());
-    let mut f = Fields::zeros(g);
-    // A non-zero start so every branch of the arithmetic is exercised
-    // (values far above the subnormal range; they stay bounded for the few
-    // steps taken since dt is within the stability limit).
-    for (k, x) in f.ez.iter_mut().enumerate() {
-        *x = 1e-3 * ((k % 97) as f64);
-    }
-    let mut pml = Pml::new(g, &problem.walls, dt);
-    let mut step = |f: &mut Fields| crate::kernel::step(f, &coeffs, pml.as_mut());
-    step(&mut f);
-    let start = Instant::now();
-    let mut steps = 0u64;
-    while steps < 3 || start.elapsed().as_secs_f64() < min_seconds {
+    crate::team::with_team(coeffs.row_parallel, |team| {
+        let _ftz = FlushSubnormals::new();
+        let mut f = Fields::zeros(g);
+        // A non-zero start so every branch of the arithmetic is exercised
+        // (values far above the subnormal range; they stay bounded for the
+        // few steps taken since dt is within the stability limit).
+        for (k, x) in f.ez.iter_mut().enumerate() {
+            *x = 1e-3 * ((k % 97) as f64);
+        }
+        let mut pml = Pml::new(g, &problem.walls, dt);
+        let mut step = |f: &mut Fields| crate::kernel::step_on(f, &coeffs, pml.as_mut(), team);
         step(&mut f);
-        steps += 1;
-    }
-    let t = start.elapsed().as_secs_f64().max(1e-9);
-    steps as f64 * g.cells() as f64 / t
+        let start = Instant::now();
+        let mut steps = 0u64;
+        while steps < 3 || start.elapsed().as_secs_f64() < min_seconds {
+            step(&mut f);
+            steps += 1;
+        }
+        let t = start.elapsed().as_secs_f64().max(1e-9);
+        steps as f64 * g.cells() as f64 / t
+    })
 }

@@ -57,15 +57,14 @@
 //! [`Pml::correct_h`] / [`Pml::correct_e`], in the same order, so the two
 //! ways give identical bits.
 //!
-//! Grids are updated row-parallel (rayon) when [`Coefficients::row_parallel`]
-//! is set: each half step's rows are split in contiguous blocks of about
-//! 1/threads of its cost by recursive halving (`rayon::join`), rows of the
-//! radial absorber weighing 2.5 plain rows. A block nobody steals runs on
-//! the thread that made it, so a thread busy with its own run pays a join
-//! or two per half step; an idle thread takes the other half. Each block
-//! runs in the floating-point mode of the thread that made it (flush-to-zero
-//! while a run steps). Every entry is computed by the same expression on any
-//! thread, so results are bitwise identical for any thread count.
+//! Grids are updated row-parallel when [`Coefficients::row_parallel`] is
+//! set and the step is given a [`Team`] ([`step_on`]): each half step's rows
+//! are split in contiguous blocks of equal cost, one per member, rows of the
+//! radial absorber weighing 2.5 plain rows, and handed over by spinning
+//! (see [`crate::team`]). Each block runs in the floating-point mode of the
+//! owner (flush-to-zero while a run steps). Every entry is computed by the
+//! same expression on any thread, so results are bitwise identical for any
+//! thread count.
 //!
 //! # Walls
 //! PEC walls hold their tangential E nodes at zero (`cb = 0`, set in
@@ -75,6 +74,8 @@ use crate::boundary::ZWall;
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
 use crate::pml::{EPsi, HPsi, Pml, PmlParams};
+use crate::team::{Team, MAX_MEMBERS};
+use std::sync::Mutex;
 
 /// Rows `first..` of a row-major array with rows of `len` entries, as one
 /// mutable slice that can be split by row (for the row-parallel update).
@@ -135,16 +136,13 @@ trait SplitRows: Sized + Send {
     fn split_at(self, i: usize) -> (Self, Self);
 }
 
-/// How a half step's rows are split over the pool: in blocks of about
-/// `1/threads` of the step's cost, rows from `heavy` on (the radial
-/// absorber's, with eight auxiliary recursions per cell besides the six
-/// field updates) weighing [`RADIAL_ROW_WEIGHT`] times a plain row.
+/// How a half step's rows are split over a team: in blocks of equal cost,
+/// rows from `heavy` on (the radial absorber's, with eight auxiliary
+/// recursions per cell besides the six field updates) weighing
+/// [`RADIAL_ROW_WEIGHT`] times a plain row.
 #[derive(Clone, Copy)]
 struct Split {
-    par: bool,
     heavy: usize,
-    /// Largest block, in cost units (a plain row is 1).
-    grain: f64,
 }
 
 /// Cost of a radial-absorber row relative to a plain row: eight auxiliary
@@ -155,28 +153,16 @@ struct Split {
 const RADIAL_ROW_WEIGHT: f64 = 2.5;
 
 impl Split {
-    fn new(par: bool, rows: usize, heavy: usize) -> Split {
-        let mut s = Split {
-            par,
-            heavy,
-            grain: 0.0,
-        };
-        let threads = rayon::current_num_threads().max(1) as f64;
-        // A hair above an exact share, so that a block of exactly 1/threads
-        // of the cost is a leaf despite rounding.
-        s.grain = (s.cost(rows) / threads).max(4.0) * 1.0001;
-        s
-    }
-
     /// Cost of rows 0..i.
     fn cost(&self, i: usize) -> f64 {
         i as f64 + (RADIAL_ROW_WEIGHT - 1.0) * i.saturating_sub(self.heavy) as f64
     }
 
-    /// The row that splits lo..hi into halves of equal cost.
-    fn middle(&self, lo: usize, hi: usize) -> usize {
-        let target = 0.5 * (self.cost(lo) + self.cost(hi));
-        let (mut a, mut b) = (lo + 1, hi - 1);
+    /// The first row `i` in `lo..=hi` with cost(lo..i) ≥ `share` of
+    /// cost(lo..hi).
+    fn at_share(&self, lo: usize, hi: usize, share: f64) -> usize {
+        let target = self.cost(lo) + share * (self.cost(hi) - self.cost(lo));
+        let (mut a, mut b) = (lo, hi);
         while a < b {
             let mid = a + (b - a) / 2;
             if self.cost(mid) < target {
@@ -190,44 +176,49 @@ impl Split {
 }
 
 /// Runs `body(i, &mut views)` for every row `i` in `lo..hi`: in order on
-/// this thread, or, when the split is parallel, in blocks of at most its
-/// grain by recursive halving with `rayon::join`, each block in this
-/// thread's floating-point mode (flush-to-zero while a run steps) on
-/// whichever thread takes it.
-fn for_rows<V, F>(lo: usize, hi: usize, views: V, split: Split, body: &F)
+/// this thread, or, with a team of k > 1 members, in k blocks of equal cost
+/// ([`Split`]), block b on member b (see [`Team::run`]).
+fn for_rows<V, F>(lo: usize, hi: usize, views: V, split: Split, team: Option<&Team>, body: &F)
 where
     V: SplitRows,
     F: Fn(usize, &mut V) + Sync,
 {
-    if split.par {
-        split_rows(lo, hi, views, split, crate::fpu::current_mode(), body);
-    } else {
+    let k = team
+        .map_or(1, |t| t.members())
+        .min(hi.saturating_sub(lo))
+        .max(1);
+    let Some(team) = team.filter(|_| k > 1) else {
         let mut views = views;
         for i in lo..hi {
             body(i, &mut views);
         }
-    }
-}
-
-fn split_rows<V, F>(lo: usize, hi: usize, mut views: V, split: Split, mode: u64, body: &F)
-where
-    V: SplitRows,
-    F: Fn(usize, &mut V) + Sync,
-{
-    if hi - lo < 2 || split.cost(hi) - split.cost(lo) <= split.grain {
-        crate::fpu::with_mode(mode, || {
-            for i in lo..hi {
-                body(i, &mut views);
-            }
-        });
         return;
+    };
+    // The blocks' views, on this stack (no allocation per half step).
+    let slots: [Mutex<Option<V>>; MAX_MEMBERS] = std::array::from_fn(|_| Mutex::new(None));
+    let mut bounds = [hi; MAX_MEMBERS + 1];
+    bounds[0] = lo;
+    let mut rest = views;
+    for b in 1..k {
+        let at = split
+            .at_share(lo, hi, b as f64 / k as f64)
+            .max(bounds[b - 1]);
+        let (block, r) = rest.split_at(at);
+        *slots[b - 1].lock().unwrap_or_else(|e| e.into_inner()) = Some(block);
+        rest = r;
+        bounds[b] = at;
     }
-    let mid = split.middle(lo, hi);
-    let (a, b) = views.split_at(mid);
-    rayon::join(
-        || split_rows(lo, mid, a, split, mode, body),
-        || split_rows(mid, hi, b, split, mode, body),
-    );
+    *slots[k - 1].lock().unwrap_or_else(|e| e.into_inner()) = Some(rest);
+    team.run(k, &|b| {
+        let mut views = slots[b]
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .take()
+            .expect("each block is stepped once");
+        for i in bounds[b]..bounds[b + 1] {
+            body(i, &mut views);
+        }
+    });
 }
 
 /// The magnetic rows of one half step and the absorber's auxiliary fields
@@ -278,27 +269,40 @@ pub(crate) struct HFields<'a> {
 
 /// Advances H by one step from E (Faraday's law).
 pub fn update_h(f: &mut Fields, c: &Coefficients) {
-    h_half_step(f, c, None, true);
+    h_half_step(f, c, None, true, None);
 }
 
 /// Advances E by one step from H (Ampère's law, no sources), with the
 /// off-diagonal permittivity coupling at curved interfaces.
 pub fn update_e(f: &mut Fields, c: &Coefficients) {
-    e_half_step(f, c, None, true);
+    e_half_step(f, c, None, true, None);
 }
 
 /// One full leapfrog step: H from E, then E from H, each row followed at
 /// once by the absorber's terms of `pml` (while it is in cache). Gives the
 /// same bits as [`update_h`], [`Pml::correct_h`], [`update_e`],
 /// [`Pml::correct_e`] in turn, in less time.
-pub fn step(f: &mut Fields, c: &Coefficients, mut pml: Option<&mut Pml>) {
-    h_half_step(f, c, pml.as_deref_mut(), true);
-    e_half_step(f, c, pml, true);
+pub fn step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml>) {
+    step_on(f, c, pml, None);
+}
+
+/// [`step`] with the rows of each half step split over `team` when
+/// [`Coefficients::row_parallel`] is set (the same bits on any team).
+pub fn step_on(f: &mut Fields, c: &Coefficients, mut pml: Option<&mut Pml>, team: Option<&Team>) {
+    let team = team.filter(|_| c.row_parallel);
+    h_half_step(f, c, pml.as_deref_mut(), true, team);
+    e_half_step(f, c, pml, true, team);
 }
 
 /// The H half step: every row's bulk update (if `bulk`), then the row's
 /// absorber terms (if `pml`).
-pub(crate) fn h_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml>, bulk: bool) {
+pub(crate) fn h_half_step(
+    f: &mut Fields,
+    c: &Coefficients,
+    pml: Option<&mut Pml>,
+    bulk: bool,
+    team: Option<&Team>,
+) {
     let (nr, nz) = (c.nr, c.nz);
     let nj1 = nz + 1;
     let Fields {
@@ -338,13 +342,18 @@ pub(crate) fn h_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml
         }
     };
     let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
-    let split = Split::new(c.row_parallel, nr, heavy);
-    for_rows(0, nr, views, split, &body);
+    for_rows(0, nr, views, Split { heavy }, team, &body);
 }
 
 /// The E half step: every row's bulk update and off-diagonal coupling (if
 /// `bulk`), then the row's absorber terms (if `pml`).
-pub(crate) fn e_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml>, bulk: bool) {
+pub(crate) fn e_half_step(
+    f: &mut Fields,
+    c: &Coefficients,
+    pml: Option<&mut Pml>,
+    bulk: bool,
+    team: Option<&Team>,
+) {
     let (nr, nz) = (c.nr, c.nz);
     let nj1 = nz + 1;
     let Fields {
@@ -394,8 +403,7 @@ pub(crate) fn e_half_step(f: &mut Fields, c: &Coefficients, pml: Option<&mut Pml
         }
     };
     let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
-    let split = Split::new(c.row_parallel, nr, heavy);
-    for_rows(0, nr, views, split, &body);
+    for_rows(0, nr, views, Split { heavy }, team, &body);
 }
 
 /// The bulk update of H row `i` (H_r on rows 1..nr only). On rows i ≥ 1

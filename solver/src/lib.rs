@@ -54,6 +54,7 @@ pub mod pml;
 pub mod run;
 mod skew;
 pub mod stability;
+pub mod team;
 
 pub use boundary::{Absorber, OuterWall, Walls, ZWall};
 pub use error::SolverError;
@@ -61,5 +62,7 @@ pub use fields::Fields;
 pub use modefield::ModeField;
 pub use modes::Mode;
 pub use plan::{plan, Problem, RunOptions, RunPlan};
-pub use run::{run, run_with, solve, solve_with, Progress, RunOutput, RunReport, Silent};
+pub use run::{
+    run, run_with, solve, solve_each_with, solve_with, Progress, RunOutput, RunReport, Silent,
+};
 pub use stability::{stability_limit, StabilityLimit};

@@ -489,12 +489,12 @@ impl Pml {
 
     /// Adds the stretched-coordinate corrections to H after [`crate::kernel::update_h`].
     pub fn correct_h(&mut self, f: &mut Fields, c: &Coefficients) {
-        h_half_step(f, c, Some(self), false);
+        h_half_step(f, c, Some(self), false, None);
     }
 
     /// Adds the stretched-coordinate corrections to E after [`crate::kernel::update_e`].
     pub fn correct_e(&mut self, f: &mut Fields, c: &Coefficients) {
-        e_half_step(f, c, Some(self), false);
+        e_half_step(f, c, Some(self), false, None);
     }
 
     /// The factors and the H half step's auxiliary fields by row.

@@ -29,9 +29,11 @@ use crate::modefield::{Accumulator, ModeField};
 use crate::modes::{merge, Mode};
 use crate::plan::{plan, Problem, RunPlan};
 use crate::pml::Pml;
+use crate::team::Team;
 use lathe_mesh::Component;
 use num_complex::Complex64;
 use rayon::prelude::*;
+use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
 /// Figures of one finished run.
@@ -120,33 +122,129 @@ pub fn solve_with(
     ms: &[u32],
     progress: &dyn Progress,
 ) -> Result<Vec<RunOutput>, SolverError> {
-    // Plans and runs start in the default floating-point mode (gradual
-    // underflow) whichever thread takes them: a thread that steals one while
-    // it waits inside another run's stepping is in that run's flush-to-zero
-    // mode, and the bits must not depend on who steals the work. Each run
-    // then sets flush-to-zero for its own stepping.
-    let plans: Vec<RunPlan> = ms
-        .par_iter()
-        .map(|&m| crate::fpu::with_gradual_underflow(|| plan(problem, m)))
-        .collect::<Result<_, _>>()?;
-    // Longest run first: the rest then fill in around it, and the last to
-    // finish is a short one (which idle threads help through the row
-    // split, see [`RunOptions::row_parallel_cells`]). Runs of one problem
-    // share the grid and ring for about the same time, so the step count,
-    // ∝ 1/Δt, ranks them. Results go back into the order of `ms`.
-    let mut order: Vec<usize> = (0..plans.len()).collect();
-    order.sort_by(|&a, &b| plans[a].dt.total_cmp(&plans[b].dt));
-    let mut done: Vec<(usize, Result<RunOutput, SolverError>)> = order
-        .par_iter()
-        .map(|&k| {
-            let r = crate::fpu::with_gradual_underflow(|| run_with(problem, &plans[k], progress));
-            (k, r)
-        })
-        .collect();
-    done.sort_by_key(|(k, _)| *k);
-    let mut runs: Vec<RunOutput> = done.into_iter().map(|(_, r)| r).collect::<Result<_, _>>()?;
+    let mut all = solve_each_with(&[problem], ms, progress)?;
+    let mut runs = all.pop().expect("one problem");
     label_runs(&mut runs.iter_mut().collect::<Vec<_>>());
     Ok(runs)
+}
+
+/// Plans and runs every order of `ms` of each of `problems` (e.g. the two
+/// symmetry halves of one structure) together, all runs sharing the pool,
+/// and returns each problem's runs in the order of `ms`,
+/// unlabelled. The first failing plan or run (problems in order, then
+/// orders) is returned.
+pub fn solve_each_with(
+    problems: &[&Problem],
+    ms: &[u32],
+    progress: &dyn Progress,
+) -> Result<Vec<Vec<RunOutput>>, SolverError> {
+    // Plans and runs start in the default floating-point mode (gradual
+    // underflow) whichever thread takes them: a thread that takes one while
+    // it waits inside another run's harmonic inversion is in that run's
+    // flush-to-zero mode, and the bits must not depend on who takes the
+    // work. Each run then sets flush-to-zero for its own stepping.
+    let jobs: Vec<(usize, u32)> = (0..problems.len())
+        .flat_map(|p| ms.iter().map(move |&m| (p, m)))
+        .collect();
+    let plans: Vec<RunPlan> = jobs
+        .par_iter()
+        .map(|&(p, m)| crate::fpu::with_gradual_underflow(|| plan(problems[p], m)))
+        .collect::<Result<_, _>>()?;
+    let runs: Vec<(&Problem, &RunPlan)> = jobs
+        .iter()
+        .zip(&plans)
+        .map(|(&(p, _), plan)| (problems[p], plan))
+        .collect();
+    let mut done = run_all(&runs, progress).into_iter();
+    let mut out = Vec::with_capacity(problems.len());
+    for _ in problems {
+        out.push(
+            done.by_ref()
+                .take(ms.len())
+                .collect::<Result<Vec<_>, _>>()?,
+        );
+    }
+    Ok(out)
+}
+
+/// Runs every (problem, plan) of `runs` on the threads of the current
+/// rayon pool and returns the results in the order of `runs`.
+///
+/// One worker per thread ([`rayon::broadcast`]) takes the next run from a
+/// shared list, longest first: the rest then fill in around it, and the
+/// last to finish is a short one. Runs of one problem share the grid and
+/// ring for about the same time, so the cell updates of a step, ∝ cells/Δt,
+/// rank them. A worker that finds none left while a run that splits by row
+/// ([`crate::RunOptions::row_parallel_cells`]) is still stepping joins that
+/// run's [`Team`] (the one with the fewest helpers) and steps a block of its
+/// rows at every half step until it ends, so the last run, or a single one,
+/// also uses every core. Which thread steps which rows never changes a bit.
+fn run_all(
+    runs: &[(&Problem, &RunPlan)],
+    progress: &dyn Progress,
+) -> Vec<Result<RunOutput, SolverError>> {
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    use std::sync::Mutex;
+    let mut order: Vec<usize> = (0..runs.len()).collect();
+    let weight = |k: usize| runs[k].0.materials.grid.cells() as f64 / runs[k].1.dt;
+    order.sort_by(|&a, &b| weight(b).total_cmp(&weight(a)));
+    let next = AtomicUsize::new(0);
+    let unfinished = AtomicUsize::new(runs.len());
+    let teams: Vec<Team> = runs.iter().map(|_| Team::new()).collect();
+    let started: Vec<AtomicBool> = runs.iter().map(|_| AtomicBool::new(false)).collect();
+    let slots: Vec<Mutex<Option<Result<RunOutput, SolverError>>>> =
+        runs.iter().map(|_| Mutex::new(None)).collect();
+    let splits = |k: usize| {
+        let (problem, _) = runs[k];
+        problem.options.splits_rows(problem.materials.grid.cells())
+    };
+    let help = (0..runs.len()).any(splits);
+    let worker = || {
+        loop {
+            let n = next.fetch_add(1, Ordering::Relaxed);
+            let Some(&k) = order.get(n) else { break };
+            let (problem, plan) = runs[k];
+            let team = splits(k).then_some(&teams[k]);
+            started[k].store(true, Ordering::Release);
+            let r = crate::fpu::with_gradual_underflow(|| run_in(problem, plan, progress, team));
+            teams[k].close();
+            *slots[k].lock().unwrap_or_else(|e| e.into_inner()) = Some(r);
+            unfinished.fetch_sub(1, Ordering::AcqRel);
+        }
+        // A thread inside a run of its own (one that took this worker while
+        // it waited in that run's harmonic inversion) must go back to it.
+        if !help || crate::team::owning() {
+            return;
+        }
+        let mut idle = 0u32;
+        while unfinished.load(Ordering::Acquire) > 0 {
+            let open = (0..runs.len())
+                .filter(|&k| {
+                    splits(k) && started[k].load(Ordering::Acquire) && !teams[k].is_closed()
+                })
+                .min_by_key(|&k| teams[k].helpers());
+            match open {
+                Some(k) => {
+                    teams[k].serve();
+                    idle = 0;
+                }
+                None if idle < 1 << 12 => {
+                    idle += 1;
+                    std::hint::spin_loop();
+                }
+                None => std::thread::yield_now(),
+            }
+        }
+    };
+    rayon::broadcast(|_| worker());
+    slots
+        .into_iter()
+        .map(|m| {
+            m.into_inner()
+                .unwrap_or_else(|e| e.into_inner())
+                .expect("every run was taken by a worker")
+        })
+        .collect()
 }
 
 /// Labels the modes of all `runs` of one structure together (e.g. both
@@ -163,7 +261,8 @@ pub fn label_runs(runs: &mut [&mut RunOutput]) {
     label_modes(&mut all);
 }
 
-/// Runs `plan` on `problem`.
+/// Runs `plan` on `problem`, its rows split over every thread of the pool
+/// when the grid is large enough ([`crate::RunOptions::row_parallel_cells`]).
 pub fn run(problem: &Problem, plan: &RunPlan) -> Result<RunOutput, SolverError> {
     run_with(problem, plan, &Silent)
 }
@@ -205,6 +304,19 @@ pub fn run_with(
     plan: &RunPlan,
     progress: &dyn Progress,
 ) -> Result<RunOutput, SolverError> {
+    let parallel = problem.options.splits_rows(problem.materials.grid.cells());
+    crate::team::with_team(parallel, |team| run_in(problem, plan, progress, team))
+}
+
+/// [`run_with`] stepping with `team` (rows split over it when the grid
+/// splits by row; `None`: on this thread alone).
+fn run_in(
+    problem: &Problem,
+    plan: &RunPlan,
+    progress: &dyn Progress,
+    team: Option<&Team>,
+) -> Result<RunOutput, SolverError> {
+    let _owning = crate::team::Owning::new();
     let _ftz = FlushSubnormals::new();
     let start = Instant::now();
     let m = plan.m;
@@ -242,7 +354,7 @@ pub fn run_with(
         Ok(e)
     };
     // The fused full step (same bits as whole passes; see `kernel::step`).
-    let mut step_once = |f: &mut Fields| crate::kernel::step(f, &coeffs, pml.as_mut());
+    let mut step_once = |f: &mut Fields| crate::kernel::step_on(f, &coeffs, pml.as_mut(), team);
     let mut peak_energy: f64 = 0.0;
     // Cell updates between two progress reports.
     let chunk = 64 * g.cells() as u64;

@@ -2,13 +2,14 @@
 //! once the absorber's terms of that row, its z-layer spans and its radial
 //! terms) gives the same bits as the step taken as whole passes
 //! (`update_h`, `Pml::correct_h`, `update_e`, `Pml::correct_e`), on one
-//! thread and with rows split over two. An exact check (no tolerance): both
+//! thread and with rows split over a team of two and of three. An exact check (no tolerance): both
 //! ways do the same operations on every entry in the same order.
 use lathe_mesh::{fill, Body, Component, FillOptions, Grid, Material, Shape};
 use lathe_solver::coefficients::Coefficients;
 use lathe_solver::fpu::FlushSubnormals;
-use lathe_solver::kernel::{step, update_e, update_h};
+use lathe_solver::kernel::{step_on, update_e, update_h};
 use lathe_solver::pml::Pml;
+use lathe_solver::team::with_team;
 use lathe_solver::{stability_limit, Absorber, Fields, OuterWall, Walls, ZWall};
 
 const CELL: f64 = 0.2e-3;
@@ -37,38 +38,48 @@ fn advance(
         .build()
         .unwrap();
     pool.install(|| {
-        let _ftz = FlushSubnormals::new();
-        let mut c = Coefficients::new(&map, walls, m, dt);
-        c.row_parallel = threads > 1;
-        let mut pml = Pml::new(g, walls, dt);
-        let mut f = Fields::zeros(g);
-        for (k, x) in f.ez.iter_mut().enumerate() {
-            *x = 1e-3 * ((k % 97) as f64) - 0.03;
-        }
-        for (k, x) in f.er.iter_mut().enumerate() {
-            *x = 1e-3 * ((k % 89) as f64) - 0.04;
-        }
-        for (k, x) in f.ephi.iter_mut().enumerate() {
-            *x = 1e-3 * ((k % 79) as f64) - 0.035;
-        }
-        for (k, x) in f.hphi.iter_mut().enumerate() {
-            *x = 1e-6 * ((k % 83) as f64) - 4e-5;
-        }
-        for _ in 0..steps {
-            if fused {
-                step(&mut f, &c, pml.as_mut());
-            } else {
-                update_h(&mut f, &c);
-                if let Some(p) = pml.as_mut() {
-                    p.correct_h(&mut f, &c);
-                }
-                update_e(&mut f, &c);
-                if let Some(p) = pml.as_mut() {
-                    p.correct_e(&mut f, &c);
+        with_team(threads > 1, |team| {
+            let _ftz = FlushSubnormals::new();
+            let mut c = Coefficients::new(&map, walls, m, dt);
+            c.row_parallel = threads > 1;
+            let mut pml = Pml::new(g, walls, dt);
+            let mut f = Fields::zeros(g);
+            for (k, x) in f.ez.iter_mut().enumerate() {
+                *x = 1e-3 * ((k % 97) as f64) - 0.03;
+            }
+            for (k, x) in f.er.iter_mut().enumerate() {
+                *x = 1e-3 * ((k % 89) as f64) - 0.04;
+            }
+            for (k, x) in f.ephi.iter_mut().enumerate() {
+                *x = 1e-3 * ((k % 79) as f64) - 0.035;
+            }
+            for (k, x) in f.hphi.iter_mut().enumerate() {
+                *x = 1e-6 * ((k % 83) as f64) - 4e-5;
+            }
+            if threads > 1 {
+                // Every helper attached before the first step, so that the
+                // rows really are split over `threads` blocks.
+                let t = team.expect("a team on several threads");
+                while t.members() < threads {
+                    std::hint::spin_loop();
                 }
             }
-        }
-        f
+            for _ in 0..steps {
+                if fused {
+                    step_on(&mut f, &c, pml.as_mut(), team);
+                } else {
+                    update_h(&mut f, &c);
+                    if let Some(p) = pml.as_mut() {
+                        p.correct_h(&mut f, &c);
+                    }
+                    update_e(&mut f, &c);
+                    if let Some(p) = pml.as_mut() {
+                        p.correct_e(&mut f, &c);
+                    }
+                }
+            }
+            f
+        })
     })
 }
 
@@ -170,7 +181,7 @@ fn fused_step_gives_the_bits_of_whole_passes() {
         for &m in ms {
             let what = format!("{name}, m = {m}");
             let passes = advance(&g, bodies, &walls, m, 60, false, 1);
-            for threads in [1, 2] {
+            for threads in [1, 2, 3] {
                 let fused = advance(&g, bodies, &walls, m, 60, true, threads);
                 assert_same_bits(&passes, &fused, &format!("{what}, {threads} thread(s)"));
             }

@@ -1,0 +1,332 @@
+//! Stepping teams: the threads that share one run's half steps by rows.
+//!
+//! A run's owner thread splits every half step's rows in blocks of equal
+//! cost, one per member, and steps block 0 itself; each helper steps its
+//! own block. The hand-over is by spinning on shared counters, not by a
+//! fork-join pool's sleep and wake-up: a half step of a small grid (95 × 95
+//! cells) lasts about 25 µs, and on the 2-vCPU virtual machine of
+//! solver/benches/RESULTS.md a pool's join of two such blocks ran at 1.0–1.3×
+//! one thread, where the same blocks handed over by spinning ran at 1.9–2.1×
+//! (the cost of a hand-over there is 1–2 µs, a cache line's round trip
+//! between the two vCPUs).
+//!
+//! # Protocol
+//! The owner publishes a job — a closure of the block index, the member
+//! count `k` of this job and the owner's floating-point mode — under a new
+//! epoch, steps block 0, and spins until every helper with a slot below `k`
+//! has reported that epoch done. A helper takes slot 1, 2, … when it
+//! attaches, serves every job whose `k` exceeds its slot, and leaves when
+//! the owner closes the team (after its last job, so no job is running).
+//! The epoch and `k` are one atomic word, so a helper never pairs an old
+//! epoch with a new count. The owner reads the helpers attached before each
+//! job; one that attaches later joins from the next job on. Which thread
+//! steps which rows never changes a bit: every entry is computed by the same
+//! expression in the same floating-point mode.
+//!
+//! Spinning is bounded: after 4096 idle rounds a waiting thread yields
+//! its core to the operating system at every round, so an oversubscribed
+//! machine slows down instead of stalling.
+use std::cell::Cell;
+use std::panic::{catch_unwind, resume_unwind, AssertUnwindSafe};
+use std::sync::atomic::{AtomicBool, AtomicPtr, AtomicU64, AtomicUsize, Ordering};
+use std::sync::Mutex;
+
+/// Most members of one team (the owner included). A grid's rows are split
+/// in at most this many blocks; further threads take other runs.
+pub const MAX_MEMBERS: usize = 16;
+
+/// Idle rounds of a spinning thread (each a processor pause, tens of
+/// nanoseconds) before it starts yielding to the operating system.
+const SPINS: u32 = 1 << 12;
+
+/// A value on a cache line of its own, so that one thread's counter is not
+/// invalidated by another's.
+#[repr(align(128))]
+#[derive(Default)]
+struct Line<T>(T);
+
+/// The job a member runs: its block index.
+type Job<'a> = &'a (dyn Fn(usize) + Sync);
+
+/// The shared state of one run's stepping team.
+pub struct Team {
+    /// Helpers attached so far (members besides the owner).
+    helpers: Line<AtomicUsize>,
+    /// The current job: epoch × 256 + its member count.
+    posted: Line<AtomicU64>,
+    /// The current job's closure, a `*const Job` on the owner's stack.
+    job: AtomicPtr<()>,
+    /// The owner's floating-point mode for the current job.
+    mode: AtomicU64,
+    /// The last epoch each slot has finished.
+    done: [Line<AtomicU64>; MAX_MEMBERS],
+    /// The owner's next epoch (written by the owner only).
+    epoch: AtomicU64,
+    closed: AtomicBool,
+    panicked: AtomicBool,
+}
+
+impl Default for Team {
+    fn default() -> Team {
+        Team::new()
+    }
+}
+
+impl std::fmt::Debug for Team {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Team")
+            .field("members", &self.members())
+            .field("closed", &self.is_closed())
+            .finish()
+    }
+}
+
+thread_local! {
+    /// Runs this thread is stepping as an owner, innermost last (a thread
+    /// waiting inside a run's harmonic inversion may take another run).
+    static OWNING: Cell<usize> = const { Cell::new(0) };
+}
+
+/// Whether this thread is inside a run's stepping as its owner: such a
+/// thread must not serve a team (it would spin while its own run waits
+/// beneath it).
+pub(crate) fn owning() -> bool {
+    OWNING.with(|c| c.get() > 0)
+}
+
+/// Marks this thread as a run's owner while alive.
+pub(crate) struct Owning;
+
+impl Owning {
+    pub(crate) fn new() -> Owning {
+        OWNING.with(|c| c.set(c.get() + 1));
+        Owning
+    }
+}
+
+impl Drop for Owning {
+    fn drop(&mut self) {
+        OWNING.with(|c| c.set(c.get() - 1));
+    }
+}
+
+/// Waits for `ready`, spinning, then yielding to the operating system.
+#[inline]
+fn wait(mut ready: impl FnMut() -> bool) {
+    let mut idle = 0u32;
+    while !ready() {
+        if idle < SPINS {
+            idle += 1;
+            std::hint::spin_loop();
+        } else {
+            std::thread::yield_now();
+        }
+    }
+}
+
+impl Team {
+    /// A team of its owner alone, open.
+    pub fn new() -> Team {
+        Team {
+            helpers: Line::default(),
+            posted: Line::default(),
+            job: AtomicPtr::new(std::ptr::null_mut()),
+            mode: AtomicU64::new(0),
+            done: Default::default(),
+            epoch: AtomicU64::new(0),
+            closed: AtomicBool::new(false),
+            panicked: AtomicBool::new(false),
+        }
+    }
+
+    /// Members a job started now would have (the owner and the helpers
+    /// attached, at most [`MAX_MEMBERS`]).
+    pub fn members(&self) -> usize {
+        (1 + self.helpers.0.load(Ordering::Acquire)).min(MAX_MEMBERS)
+    }
+
+    /// Helpers attached so far.
+    pub fn helpers(&self) -> usize {
+        self.helpers.0.load(Ordering::Acquire)
+    }
+
+    /// Whether the owner has closed the team.
+    pub fn is_closed(&self) -> bool {
+        self.closed.load(Ordering::Acquire)
+    }
+
+    /// Closes the team: every helper leaves. Called by the owner after its
+    /// last job.
+    pub fn close(&self) {
+        self.closed.store(true, Ordering::Release);
+    }
+
+    /// Runs `job(b)` for every block `b < k`: block 0 on this thread (the
+    /// owner), the others on the helpers in slots 1..k, in this thread's
+    /// floating-point mode, and returns when all are done. `k` must not
+    /// exceed [`Team::members`] read by this owner.
+    pub fn run(&self, k: usize, job: &(dyn Fn(usize) + Sync)) {
+        assert!(
+            (1..=self.members()).contains(&k),
+            "{k} blocks for a team of {}",
+            self.members()
+        );
+        if k == 1 {
+            job(0);
+            return;
+        }
+        let e = self.epoch.load(Ordering::Relaxed) + 1;
+        self.epoch.store(e, Ordering::Relaxed);
+        let fat: Job = job;
+        self.job
+            .store(&fat as *const Job as *mut (), Ordering::Relaxed);
+        self.mode
+            .store(crate::fpu::current_mode(), Ordering::Relaxed);
+        self.posted.0.store(e << 8 | k as u64, Ordering::Release);
+        let mine = catch_unwind(AssertUnwindSafe(|| job(0)));
+        for slot in &self.done[1..k] {
+            wait(|| slot.0.load(Ordering::Acquire) == e);
+        }
+        if let Err(p) = mine {
+            resume_unwind(p);
+        }
+        if self.panicked.load(Ordering::Acquire) {
+            panic!("a helper's block of the row-parallel step panicked");
+        }
+    }
+
+    /// Attaches this thread as a helper and serves the owner's jobs until
+    /// the team is closed. Returns at once when the team is full or closed,
+    /// or when this thread is stepping a run as its owner (it would spin
+    /// while its own run waits beneath it).
+    pub fn serve(&self) {
+        if self.is_closed() || owning() {
+            return;
+        }
+        let slot = self.helpers.0.fetch_add(1, Ordering::AcqRel) + 1;
+        if slot >= MAX_MEMBERS {
+            return;
+        }
+        let mut seen = u64::MAX;
+        let mut idle = 0u32;
+        loop {
+            let w = self.posted.0.load(Ordering::Acquire);
+            let e = w >> 8;
+            if e != seen {
+                seen = e;
+                idle = 0;
+                if slot < (w & 0xff) as usize {
+                    // SAFETY: `job` points at the `Job` the owner stored
+                    // before publishing epoch `e` (the Release store of
+                    // `posted`, read here with Acquire). The owner stays in
+                    // `run`, keeping that reference and what it borrows
+                    // alive, until this slot reports `e` done below.
+                    let job = unsafe { *(self.job.load(Ordering::Relaxed) as *const Job) };
+                    let mode = self.mode.load(Ordering::Relaxed);
+                    let r = catch_unwind(AssertUnwindSafe(|| {
+                        crate::fpu::with_mode(mode, || job(slot))
+                    }));
+                    if r.is_err() {
+                        self.panicked.store(true, Ordering::Release);
+                    }
+                    self.done[slot].0.store(e, Ordering::Release);
+                }
+            } else if self.is_closed() {
+                return;
+            } else if idle < SPINS {
+                idle += 1;
+                std::hint::spin_loop();
+            } else {
+                std::thread::yield_now();
+            }
+        }
+    }
+}
+
+/// Runs `f` with a team whose helpers are this rayon pool's other threads
+/// (when `parallel` and the pool has more than one), closing it when `f`
+/// returns. Every thread of the pool takes part ([`rayon::broadcast`]): the
+/// first runs `f`, the others serve its team until it closes.
+pub fn with_team<R: Send>(parallel: bool, f: impl FnOnce(Option<&Team>) -> R + Send) -> R {
+    if !parallel || rayon::current_num_threads() < 2 || owning() {
+        return f(None);
+    }
+    let team = Team::new();
+    let owner = Mutex::new(Some(f));
+    let out = Mutex::new(None);
+    rayon::broadcast(|_| {
+        let f = owner.lock().unwrap_or_else(|e| e.into_inner()).take();
+        match f {
+            Some(f) => {
+                let r = catch_unwind(AssertUnwindSafe(|| f(Some(&team))));
+                team.close();
+                *out.lock().unwrap_or_else(|e| e.into_inner()) = Some(r);
+            }
+            None => team.serve(),
+        }
+    });
+    match out
+        .into_inner()
+        .unwrap_or_else(|e| e.into_inner())
+        .expect("the owner ran")
+    {
+        Ok(r) => r,
+        Err(p) => resume_unwind(p),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_block_runs_once_per_job_on_any_team() {
+        for threads in [1, 2, 3] {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            let counts: Vec<AtomicUsize> = (0..4).map(|_| AtomicUsize::new(0)).collect();
+            let jobs = pool.install(|| {
+                with_team(true, |team| {
+                    let mut jobs = 0;
+                    for _ in 0..2000 {
+                        let k = team.map_or(1, |t| t.members()).min(4);
+                        let run = |b: usize| {
+                            counts[b].fetch_add(1, Ordering::Relaxed);
+                        };
+                        match team {
+                            Some(t) => t.run(k, &run),
+                            None => run(0),
+                        }
+                        jobs += 1;
+                        for (b, c) in counts.iter().enumerate() {
+                            let n = c.swap(0, Ordering::Relaxed);
+                            assert_eq!(n, usize::from(b < k), "block {b} of {k}");
+                        }
+                    }
+                    jobs
+                })
+            });
+            assert_eq!(jobs, 2000);
+        }
+    }
+
+    #[test]
+    fn a_helpers_panic_reaches_the_owner() {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(2)
+            .build()
+            .unwrap();
+        let r = catch_unwind(AssertUnwindSafe(|| {
+            pool.install(|| {
+                with_team(true, |team| {
+                    let t = team.expect("a team on two threads");
+                    wait(|| t.members() == 2);
+                    t.run(2, &|b| assert_eq!(b, 0, "a deliberate failure"));
+                })
+            })
+        }));
+        assert!(r.is_err());
+    }
+}
