@@ -206,10 +206,12 @@ fn run_all(
             let (problem, plan) = runs[k];
             let team = splits(k).then_some(&teams[k]);
             started[k].store(true, Ordering::Release);
+            // Closes the team and counts the run finished even if it
+            // panics, so that no helper spins on (the panic then reaches
+            // the caller through the broadcast).
+            let _finished = Finished(&teams[k], &unfinished);
             let r = crate::fpu::with_gradual_underflow(|| run_in(problem, plan, progress, team));
-            teams[k].close();
             *slots[k].lock().unwrap_or_else(|e| e.into_inner()) = Some(r);
-            unfinished.fetch_sub(1, Ordering::AcqRel);
         }
         // A thread inside a run of its own (one that took this worker while
         // it waited in that run's harmonic inversion) must go back to it.
@@ -245,6 +247,16 @@ fn run_all(
                 .expect("every run was taken by a worker")
         })
         .collect()
+}
+
+/// On drop: closes a run's team and counts the run finished.
+struct Finished<'a>(&'a Team, &'a std::sync::atomic::AtomicUsize);
+
+impl Drop for Finished<'_> {
+    fn drop(&mut self) {
+        self.0.close();
+        self.1.fetch_sub(1, std::sync::atomic::Ordering::AcqRel);
+    }
 }
 
 /// Labels the modes of all `runs` of one structure together (e.g. both
