@@ -149,7 +149,9 @@ struct Split {
 /// recursions besides the six field updates (ten when this was chosen, by
 /// timing one 95 × 95 open run, solver/benches/common::benchmark_half,
 /// alone on two threads with weights 2.0, 2.5 and 3.5: 2.5 stepped fastest,
-/// 1.5–1.6× one thread). The results do not depend on it.
+/// 1.5–1.6× one thread; re-timed with stepping teams at 1.5, 2.5 and 3.5 on
+/// another host: the same within the noise). The results do not depend on
+/// it.
 const RADIAL_ROW_WEIGHT: f64 = 2.5;
 
 impl Split {
