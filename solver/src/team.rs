@@ -52,18 +52,25 @@ type Job<'a> = &'a (dyn Fn(usize) + Sync);
 pub struct Team {
     /// Helpers attached so far (members besides the owner).
     helpers: Line<AtomicUsize>,
-    /// The current job: epoch × 256 + its member count.
-    posted: Line<AtomicU64>,
+    /// What the owner posts, on one cache line: a helper reads it all with
+    /// one transfer.
+    post: Line<Post>,
+    /// The last epoch each slot has finished.
+    done: [Line<AtomicU64>; MAX_MEMBERS],
+    panicked: AtomicBool,
+}
+
+/// The owner's side of a [`Team`].
+#[derive(Default)]
+struct Post {
+    /// The current job: epoch × 256 + its member count (the owner is its
+    /// only writer, so it also counts the epochs).
+    word: AtomicU64,
     /// The current job's closure, a `*const Job` on the owner's stack.
     job: AtomicPtr<()>,
     /// The owner's floating-point mode for the current job.
     mode: AtomicU64,
-    /// The last epoch each slot has finished.
-    done: [Line<AtomicU64>; MAX_MEMBERS],
-    /// The owner's next epoch (written by the owner only).
-    epoch: AtomicU64,
     closed: AtomicBool,
-    panicked: AtomicBool,
 }
 
 impl Default for Team {
@@ -129,12 +136,8 @@ impl Team {
     pub fn new() -> Team {
         Team {
             helpers: Line::default(),
-            posted: Line::default(),
-            job: AtomicPtr::new(std::ptr::null_mut()),
-            mode: AtomicU64::new(0),
+            post: Line::default(),
             done: Default::default(),
-            epoch: AtomicU64::new(0),
-            closed: AtomicBool::new(false),
             panicked: AtomicBool::new(false),
         }
     }
@@ -152,13 +155,13 @@ impl Team {
 
     /// Whether the owner has closed the team.
     pub fn is_closed(&self) -> bool {
-        self.closed.load(Ordering::Acquire)
+        self.post.0.closed.load(Ordering::Acquire)
     }
 
     /// Closes the team: every helper leaves. Called by the owner after its
     /// last job.
     pub fn close(&self) {
-        self.closed.store(true, Ordering::Release);
+        self.post.0.closed.store(true, Ordering::Release);
     }
 
     /// Runs `job(b)` for every block `b < k`: block 0 on this thread (the
@@ -175,14 +178,14 @@ impl Team {
             job(0);
             return;
         }
-        let e = self.epoch.load(Ordering::Relaxed) + 1;
-        self.epoch.store(e, Ordering::Relaxed);
+        let post = &self.post.0;
+        let e = (post.word.load(Ordering::Relaxed) >> 8) + 1;
         let fat: Job = job;
-        self.job
+        post.job
             .store(&fat as *const Job as *mut (), Ordering::Relaxed);
-        self.mode
+        post.mode
             .store(crate::fpu::current_mode(), Ordering::Relaxed);
-        self.posted.0.store(e << 8 | k as u64, Ordering::Release);
+        post.word.store(e << 8 | k as u64, Ordering::Release);
         let mine = catch_unwind(AssertUnwindSafe(|| job(0)));
         for slot in &self.done[1..k] {
             wait(|| slot.0.load(Ordering::Acquire) == e);
@@ -210,7 +213,7 @@ impl Team {
         let mut seen = u64::MAX;
         let mut idle = 0u32;
         loop {
-            let w = self.posted.0.load(Ordering::Acquire);
+            let w = self.post.0.word.load(Ordering::Acquire);
             let e = w >> 8;
             if e != seen {
                 seen = e;
@@ -218,11 +221,11 @@ impl Team {
                 if slot < (w & 0xff) as usize {
                     // SAFETY: `job` points at the `Job` the owner stored
                     // before publishing epoch `e` (the Release store of
-                    // `posted`, read here with Acquire). The owner stays in
+                    // `post.word`, read here with Acquire). The owner stays in
                     // `run`, keeping that reference and what it borrows
                     // alive, until this slot reports `e` done below.
-                    let job = unsafe { *(self.job.load(Ordering::Relaxed) as *const Job) };
-                    let mode = self.mode.load(Ordering::Relaxed);
+                    let job = unsafe { *(self.post.0.job.load(Ordering::Relaxed) as *const Job) };
+                    let mode = self.post.0.mode.load(Ordering::Relaxed);
                     let r = catch_unwind(AssertUnwindSafe(|| {
                         crate::fpu::with_mode(mode, || job(slot))
                     }));
