@@ -189,7 +189,6 @@ fn run_all(
     let weight = |k: usize| runs[k].0.materials.grid.cells() as f64 / runs[k].1.dt;
     order.sort_by(|&a, &b| weight(b).total_cmp(&weight(a)));
     let next = AtomicUsize::new(0);
-    let unfinished = AtomicUsize::new(runs.len());
     let teams: Vec<Team> = runs.iter().map(|_| Team::new()).collect();
     let started: Vec<AtomicBool> = runs.iter().map(|_| AtomicBool::new(false)).collect();
     let slots: Vec<Mutex<Option<Result<RunOutput, SolverError>>>> =
@@ -206,10 +205,10 @@ fn run_all(
             let (problem, plan) = runs[k];
             let team = splits(k).then_some(&teams[k]);
             started[k].store(true, Ordering::Release);
-            // Closes the team and counts the run finished even if it
-            // panics, so that no helper spins on (the panic then reaches
-            // the caller through the broadcast).
-            let _finished = Finished(&teams[k], &unfinished);
+            // Closes the team even if the run panics, so that no helper
+            // spins on (the panic then reaches the caller through the
+            // broadcast).
+            let _closing = Closing(&teams[k]);
             let r = crate::fpu::with_gradual_underflow(|| run_in(problem, plan, progress, team));
             *slots[k].lock().unwrap_or_else(|e| e.into_inner()) = Some(r);
         }
@@ -218,8 +217,11 @@ fn run_all(
         if !help || crate::team::owning() {
             return;
         }
-        let mut idle = 0u32;
-        while unfinished.load(Ordering::Acquire) > 0 {
+        // Every run has been taken: help those that split by row until
+        // their teams close (a run taken but not yet started is waited
+        // for; one that does not split needs no help).
+        let mut idle = crate::team::Backoff::default();
+        while (0..runs.len()).any(|k| splits(k) && !teams[k].is_closed()) {
             let open = (0..runs.len())
                 .filter(|&k| {
                     splits(k) && started[k].load(Ordering::Acquire) && !teams[k].is_closed()
@@ -228,13 +230,14 @@ fn run_all(
             match open {
                 Some(k) => {
                     teams[k].serve();
-                    idle = 0;
+                    // Back at once from an open team: it is full.
+                    if teams[k].is_closed() {
+                        idle.reset();
+                    } else {
+                        idle.pause();
+                    }
                 }
-                None if idle < 1 << 12 => {
-                    idle += 1;
-                    std::hint::spin_loop();
-                }
-                None => std::thread::yield_now(),
+                None => idle.pause(),
             }
         }
     };
@@ -249,13 +252,12 @@ fn run_all(
         .collect()
 }
 
-/// On drop: closes a run's team and counts the run finished.
-struct Finished<'a>(&'a Team, &'a std::sync::atomic::AtomicUsize);
+/// On drop: closes a run's team.
+struct Closing<'a>(&'a Team);
 
-impl Drop for Finished<'_> {
+impl Drop for Closing<'_> {
     fn drop(&mut self) {
         self.0.close();
-        self.1.fetch_sub(1, std::sync::atomic::Ordering::AcqRel);
     }
 }
 

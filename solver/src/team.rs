@@ -117,17 +117,36 @@ impl Drop for Owning {
     }
 }
 
-/// Waits for `ready`, spinning, then yielding to the operating system.
-#[inline]
-fn wait(mut ready: impl FnMut() -> bool) {
-    let mut idle = 0u32;
-    while !ready() {
-        if idle < SPINS {
-            idle += 1;
+/// The pause of a waiting thread: [`SPINS`] processor pauses, then a yield
+/// to the operating system at every round.
+#[derive(Default)]
+pub(crate) struct Backoff(u32);
+
+impl Backoff {
+    /// One idle round.
+    #[inline]
+    pub(crate) fn pause(&mut self) {
+        if self.0 < SPINS {
+            self.0 += 1;
             std::hint::spin_loop();
         } else {
             std::thread::yield_now();
         }
+    }
+
+    /// Back to spinning (work arrived).
+    #[inline]
+    pub(crate) fn reset(&mut self) {
+        self.0 = 0;
+    }
+}
+
+/// Waits for `ready`, spinning, then yielding to the operating system.
+#[inline]
+fn wait(mut ready: impl FnMut() -> bool) {
+    let mut idle = Backoff::default();
+    while !ready() {
+        idle.pause();
     }
 }
 
@@ -211,13 +230,13 @@ impl Team {
             return;
         }
         let mut seen = u64::MAX;
-        let mut idle = 0u32;
+        let mut idle = Backoff::default();
         loop {
             let w = self.post.0.word.load(Ordering::Acquire);
             let e = w >> 8;
             if e != seen {
                 seen = e;
-                idle = 0;
+                idle.reset();
                 if slot < (w & 0xff) as usize {
                     // SAFETY: `job` points at the `Job` the owner stored
                     // before publishing epoch `e` (the Release store of
@@ -236,11 +255,8 @@ impl Team {
                 }
             } else if self.is_closed() {
                 return;
-            } else if idle < SPINS {
-                idle += 1;
-                std::hint::spin_loop();
             } else {
-                std::thread::yield_now();
+                idle.pause();
             }
         }
     }
