@@ -4,8 +4,9 @@
 //! [`step_rate`] times the full leapfrog step of a problem — H and E
 //! updates, absorber corrections, the same coefficients a run uses — on
 //! scratch fields, in the calling thread pool (so a rayon pool of n threads
-//! measures n threads, its rows split over a [`crate::team::Team`]). Nothing of a run is stepped; the figure is cell
-//! updates per second, the unit of `cell_updates` in every report.
+//! measures n threads, its rows split over a [`crate::team::Team`]).
+//! Nothing of a run is stepped; the figure is cell updates per second, the
+//! unit of `cell_updates` in every report.
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
 use crate::fpu::FlushSubnormals;

@@ -146,10 +146,13 @@ pub fn solve_each_with(
     let jobs: Vec<(usize, u32)> = (0..problems.len())
         .flat_map(|p| ms.iter().map(move |&m| (p, m)))
         .collect();
-    let plans: Vec<RunPlan> = jobs
+    let plans: Vec<Result<RunPlan, SolverError>> = jobs
         .par_iter()
         .map(|&(p, m)| crate::fpu::with_gradual_underflow(|| plan(problems[p], m)))
-        .collect::<Result<_, _>>()?;
+        .collect();
+    // In order, so that the error reported is the first, whichever thread
+    // finished first.
+    let plans: Vec<RunPlan> = plans.into_iter().collect::<Result<_, _>>()?;
     let runs: Vec<(&Problem, &RunPlan)> = jobs
         .iter()
         .zip(&plans)

@@ -222,7 +222,9 @@ impl Team {
     /// or when this thread is stepping a run as its owner (it would spin
     /// while its own run waits beneath it).
     pub fn serve(&self) {
-        if self.is_closed() || owning() {
+        // A full team is not joined (its count of helpers then stays put
+        // however often an idle thread comes back to it).
+        if self.is_closed() || owning() || self.helpers() + 1 >= MAX_MEMBERS {
             return;
         }
         let slot = self.helpers.0.fetch_add(1, Ordering::AcqRel) + 1;

@@ -2,8 +2,9 @@
 //! once the absorber's terms of that row, its z-layer spans and its radial
 //! terms) gives the same bits as the step taken as whole passes
 //! (`update_h`, `Pml::correct_h`, `update_e`, `Pml::correct_e`), on one
-//! thread and with rows split over a team of two and of three. An exact check (no tolerance): both
-//! ways do the same operations on every entry in the same order.
+//! thread and with rows split over a team of two and of three. An exact
+//! check (no tolerance): both ways do the same operations on every entry in
+//! the same order.
 use lathe_mesh::{fill, Body, Component, FillOptions, Grid, Material, Shape};
 use lathe_solver::coefficients::Coefficients;
 use lathe_solver::fpu::FlushSubnormals;
