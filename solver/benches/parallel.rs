@@ -14,6 +14,11 @@
 //!    the full step's rate (`lathe_solver::bench::step_rate`) on 1 and on 2
 //!    threads. Target: both cores used (the row split).
 //!
+//! 3. The last run of (1) alone: the full step's rate of the benchmark
+//!    grid (95 × 95, m = 1) on 1 and on 2 threads, its rows split. This is
+//!    how fast the last of the three runs steps once both threads are on
+//!    it; the three orders reach 0.56 when it is about 1.6× or more.
+//!
 //! The runs' results on 1 and 2 threads are compared bit for bit (they
 //! must be identical). Timing is printed, never asserted.
 mod common;
@@ -174,11 +179,33 @@ fn large_single() {
     );
 }
 
+fn small_split() {
+    let problem = benchmark_half(ZWall::Pmc);
+    // Half the 2D Courant limit: stable, and the rate does not depend on Δt.
+    let dt = 0.35 * problem.materials.grid.dr / C0;
+    let (p1, p2) = (pool(1), pool(2));
+    let mut q = vec![];
+    for _ in 0..ROUNDS {
+        let a = p1.install(|| lathe_solver::bench::step_rate(&problem, 1, dt, 0.3));
+        let b = p2.install(|| lathe_solver::bench::step_rate(&problem, 1, dt, 0.3));
+        q.push(b / a);
+    }
+    let rounds = q
+        .iter()
+        .map(|x| format!("{x:.2}"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let mq = median(&mut q);
+    println!("the benchmark grid alone (95 × 95, m = 1), full step, rows split on 2 threads");
+    println!("  2 threads / 1 thread rate = {mq:.2}× (rounds {rounds})");
+}
+
 fn main() {
     println!("lathe-solver parallel efficiency (f64), medians of {ROUNDS} interleaved rounds");
     println!("machine: {}", machine());
     three_orders();
     large_single();
+    small_split();
     if let Some(cpu) = cpu_seconds() {
         println!("process CPU time {cpu:.1} s");
     }

@@ -14,6 +14,10 @@ use crate::plan::Problem;
 use crate::pml::Pml;
 use std::time::Instant;
 
+/// Steps taken at once by [`step_rate`] (one stretch between a run's probe
+/// samples is typically tens of steps).
+const STRETCH: usize = 16;
+
 /// Cell updates per second of the full step of `problem` at order `m` and
 /// time step `dt`, timed over at least `min_seconds` (and at least three
 /// steps) after one warm-up step. Run inside a rayon pool to measure that
@@ -33,13 +37,16 @@ pub fn step_rate(problem: &Problem, m: u32, dt: f64, min_seconds: f64) -> f64 {
             *x = 1e-3 * ((k % 97) as f64);
         }
         let mut pml = Pml::new(g, &problem.walls, dt);
-        let mut step = |f: &mut Fields| crate::kernel::step_on(f, &coeffs, pml.as_mut(), team);
-        step(&mut f);
+        // Steps in stretches of `STRETCH`, as a run takes them between two
+        // probe samples.
+        let mut steps_on =
+            |f: &mut Fields, n: usize| crate::kernel::steps_on(f, &coeffs, pml.as_mut(), team, n);
+        steps_on(&mut f, 1);
         let start = Instant::now();
         let mut steps = 0u64;
         while steps < 3 || start.elapsed().as_secs_f64() < min_seconds {
-            step(&mut f);
-            steps += 1;
+            steps_on(&mut f, STRETCH);
+            steps += STRETCH as u64;
         }
         let t = start.elapsed().as_secs_f64().max(1e-9);
         steps as f64 * g.cells() as f64 / t

@@ -58,10 +58,12 @@
 //! ways give identical bits.
 //!
 //! Grids are updated row-parallel when [`Coefficients::row_parallel`] is
-//! set and the step is given a [`Team`] ([`step_on`]): each half step's rows
-//! are split in contiguous blocks of equal cost, one per member, rows of the
-//! radial absorber weighing 2.5 plain rows, and handed over by spinning
-//! (see [`crate::team`]). Each block runs in the floating-point mode of the
+//! set and the step is given a [`Team`] ([`step_on`], [`steps_on`]): each
+//! half step's rows are split in contiguous blocks of equal cost, one per
+//! member, rows of the radial absorber weighing 2.5 plain rows, handed over
+//! by spinning (see [`crate::team`]). [`steps_on`] keeps the blocks through
+//! a stretch of steps, the members meeting at a barrier after each half
+//! step. Each block runs in the floating-point mode of the
 //! owner (flush-to-zero while a run steps). Every entry is computed by the
 //! same expression on any thread, so results are bitwise identical for any
 //! thread count.
@@ -97,6 +99,15 @@ impl<'a> Rows<'a> {
             data: Default::default(),
             len: 0,
             first: 0,
+        }
+    }
+
+    /// The same rows, borrowed for a shorter time.
+    pub(crate) fn reborrow(&mut self) -> Rows<'_> {
+        Rows {
+            data: &mut *self.data,
+            len: self.len,
+            first: self.first,
         }
     }
 
@@ -160,6 +171,19 @@ impl Split {
         i as f64 + (RADIAL_ROW_WEIGHT - 1.0) * i.saturating_sub(self.heavy) as f64
     }
 
+    /// The bounds of `k` blocks of rows `lo..hi` of equal cost: block b is
+    /// rows `bounds[b]..bounds[b + 1]`.
+    fn bounds(&self, lo: usize, hi: usize, k: usize) -> [usize; MAX_MEMBERS + 1] {
+        let mut bounds = [hi; MAX_MEMBERS + 1];
+        bounds[0] = lo;
+        for b in 1..k {
+            bounds[b] = self
+                .at_share(lo, hi, b as f64 / k as f64)
+                .max(bounds[b - 1]);
+        }
+        bounds
+    }
+
     /// The first row `i` in `lo..=hi` with cost(lo..i) ≥ `share` of
     /// cost(lo..hi).
     fn at_share(&self, lo: usize, hi: usize, share: f64) -> usize {
@@ -198,17 +222,12 @@ where
     };
     // The blocks' views, on this stack (no allocation per half step).
     let slots: [Mutex<Option<V>>; MAX_MEMBERS] = std::array::from_fn(|_| Mutex::new(None));
-    let mut bounds = [hi; MAX_MEMBERS + 1];
-    bounds[0] = lo;
+    let bounds = split.bounds(lo, hi, k);
     let mut rest = views;
     for b in 1..k {
-        let at = split
-            .at_share(lo, hi, b as f64 / k as f64)
-            .max(bounds[b - 1]);
-        let (block, r) = rest.split_at(at);
+        let (block, r) = rest.split_at(bounds[b]);
         *slots[b - 1].lock().unwrap_or_else(|e| e.into_inner()) = Some(block);
         rest = r;
-        bounds[b] = at;
     }
     *slots[k - 1].lock().unwrap_or_else(|e| e.into_inner()) = Some(rest);
     team.run(k, &|b| {
@@ -296,6 +315,221 @@ pub fn step_on(f: &mut Fields, c: &Coefficients, mut pml: Option<&mut Pml>, team
     e_half_step(f, c, pml, true, team);
 }
 
+/// `n` full steps of [`step_on`], with the same bits. With a team (and
+/// [`Coefficients::row_parallel`]) the `n` steps are one job of
+/// [`Team::run_phases`]: each member keeps its block of rows — the same
+/// blocks as [`step_on`]'s — and its block's absorber fields through all `n`
+/// steps, and the members meet at a barrier after each half step (and after
+/// the coupling's curls, which member 0 takes, where the grid has coupled
+/// nodes) instead of being handed each half step by the owner.
+pub fn steps_on(
+    f: &mut Fields,
+    c: &Coefficients,
+    mut pml: Option<&mut Pml>,
+    team: Option<&Team>,
+    n: usize,
+) {
+    let k = team
+        .filter(|_| c.row_parallel)
+        .map_or(1, |t| t.members())
+        .min(c.nr);
+    let Some(team) = team.filter(|_| k > 1 && n > 0) else {
+        for _ in 0..n {
+            step_on(f, c, pml.as_deref_mut(), team);
+        }
+        return;
+    };
+    let (nr, nz) = (c.nr, c.nz);
+    let nj1 = nz + 1;
+    let heavy = pml
+        .as_deref()
+        .and_then(|p| p.params().radial_first())
+        .unwrap_or(nr);
+    let bounds = Split { heavy }.bounds(0, nr, k);
+    if let Some(cp) = &c.coupling {
+        f.curls.resize(cp.curl_len(), 0.0);
+    }
+    // Each member's absorber rows of both half steps, on a line of its own.
+    let blocks: [Line<Mutex<Option<PsiBlock>>>; MAX_MEMBERS] = Default::default();
+    let params = match pml {
+        Some(p) => {
+            let (params, mut h, mut e) = p.split_both();
+            for b in 1..k {
+                let (hb, hr) = h.split_at(bounds[b]);
+                let (eb, er) = e.split_at(bounds[b]);
+                *blocks[b - 1].0.lock().unwrap_or_else(|e| e.into_inner()) = Some((hb, eb));
+                (h, e) = (hr, er);
+            }
+            *blocks[k - 1].0.lock().unwrap_or_else(|e| e.into_inner()) = Some((h, e));
+            Some(params)
+        }
+        None => None,
+    };
+    let raw = RawFields::new(f);
+    // Phases of one step: H, the coupling's curls where there are any, E.
+    let per_step = if c.coupling.is_some() { 3 } else { 2 };
+    let job = |b: usize, phase: usize| {
+        let (lo, hi) = (bounds[b], bounds[b + 1]);
+        let mut held = blocks[b].0.lock().unwrap_or_else(|e| e.into_inner());
+        let (hpsi, epsi) = match held.as_mut() {
+            Some((h, e)) => (h.reborrow(), e.reborrow()),
+            None => (HPsi::none(), EPsi::none()),
+        };
+        // SAFETY (every `unsafe` below): within a phase, the members write
+        // disjoint blocks of rows of one field (H in the H phase, E in the
+        // E phase, the curls on member 0 alone in their phase) and only
+        // read the other field and the curls, which no one writes in that
+        // phase; `Team::run_phases` puts a barrier (Release/Acquire)
+        // between phases, and every reference made here dies with its
+        // phase. `raw` was taken from `f`, which this function borrows
+        // mutably until the job has ended.
+        match (phase % per_step, per_step) {
+            (0, _) => {
+                let e = unsafe { raw.e() };
+                let mut v = HViews {
+                    hr: unsafe { raw.hr.rows(nz, lo, hi) },
+                    hphi: unsafe { raw.hphi.rows(nz, lo, hi) },
+                    hz: unsafe { raw.hz.rows(nj1, lo, hi) },
+                    psi: hpsi,
+                };
+                for i in lo..hi {
+                    h_row(c, &e, params, true, i, &mut v);
+                }
+            }
+            (1, 3) => {
+                if let (0, Some(cp)) = (b, &c.coupling) {
+                    let h = unsafe { raw.h() };
+                    cp.curls(&h, unsafe { raw.curls.all_mut() });
+                }
+            }
+            _ => {
+                let h = unsafe { raw.h() };
+                let curls = unsafe { raw.curls.all() };
+                let mut v = EViews {
+                    er: unsafe { raw.er.rows(nj1, lo, hi) },
+                    ephi: unsafe { raw.ephi.rows(nj1, lo, hi) },
+                    ez: unsafe { raw.ez.rows(nz, lo, hi) },
+                    psi: epsi,
+                };
+                for i in lo..hi {
+                    e_row(c, &h, curls, params, true, i, &mut v);
+                }
+            }
+        }
+    };
+    team.run_phases(k, n * per_step, &job);
+}
+
+/// One member's rows of the absorber's auxiliary fields, both half steps.
+type PsiBlock<'a> = (HPsi<'a>, EPsi<'a>);
+
+/// A value on a cache line of its own.
+#[repr(align(128))]
+#[derive(Default)]
+struct Line<T>(T);
+
+/// One array of [`Fields`] as a raw pointer and length, shared by the
+/// members of a stepping team for [`steps_on`].
+#[derive(Clone, Copy)]
+struct RawArray {
+    ptr: *mut f64,
+    len: usize,
+}
+
+// SAFETY: a `RawArray` is only turned into references under the phase
+// discipline of `steps_on` (disjoint writes, barrier between phases).
+unsafe impl Send for RawArray {}
+unsafe impl Sync for RawArray {}
+
+impl RawArray {
+    fn new(v: &mut [f64]) -> RawArray {
+        RawArray {
+            ptr: v.as_mut_ptr(),
+            len: v.len(),
+        }
+    }
+
+    /// The whole array, read-only.
+    ///
+    /// # Safety
+    /// No one may write the array while the slice lives.
+    unsafe fn all<'a>(self) -> &'a [f64] {
+        unsafe { std::slice::from_raw_parts(self.ptr, self.len) }
+    }
+
+    /// The whole array, writable.
+    ///
+    /// # Safety
+    /// No one else may read or write the array while the slice lives.
+    unsafe fn all_mut<'a>(self) -> &'a mut [f64] {
+        unsafe { std::slice::from_raw_parts_mut(self.ptr, self.len) }
+    }
+
+    /// Rows `lo..hi` of `len` entries (those the array holds), writable:
+    /// what [`Rows::split_at`] at `lo` and `hi` gives.
+    ///
+    /// # Safety
+    /// No one else may read or write those rows while the view lives.
+    unsafe fn rows<'a>(self, len: usize, lo: usize, hi: usize) -> Rows<'a> {
+        let (a, b) = ((lo * len).min(self.len), (hi * len).min(self.len));
+        let data = unsafe { std::slice::from_raw_parts_mut(self.ptr.add(a), b - a) };
+        Rows::new(data, len, lo)
+    }
+}
+
+/// The six field arrays and the coupling's curls of one [`Fields`].
+struct RawFields {
+    er: RawArray,
+    ephi: RawArray,
+    ez: RawArray,
+    hr: RawArray,
+    hphi: RawArray,
+    hz: RawArray,
+    curls: RawArray,
+}
+
+impl RawFields {
+    fn new(f: &mut Fields) -> RawFields {
+        RawFields {
+            er: RawArray::new(&mut f.er),
+            ephi: RawArray::new(&mut f.ephi),
+            ez: RawArray::new(&mut f.ez),
+            hr: RawArray::new(&mut f.hr),
+            hphi: RawArray::new(&mut f.hphi),
+            hz: RawArray::new(&mut f.hz),
+            curls: RawArray::new(&mut f.curls),
+        }
+    }
+
+    /// E, read-only.
+    ///
+    /// # Safety
+    /// No one may write E while the view lives.
+    unsafe fn e<'a>(&self) -> EFields<'a> {
+        unsafe {
+            EFields {
+                er: self.er.all(),
+                ephi: self.ephi.all(),
+                ez: self.ez.all(),
+            }
+        }
+    }
+
+    /// H, read-only.
+    ///
+    /// # Safety
+    /// No one may write H while the view lives.
+    unsafe fn h<'a>(&self) -> HFields<'a> {
+        unsafe {
+            HFields {
+                hr: self.hr.all(),
+                hphi: self.hphi.all(),
+                hz: self.hz.all(),
+            }
+        }
+    }
+}
+
 /// The H half step: every row's bulk update (if `bulk`), then the row's
 /// absorber terms (if `pml`).
 pub(crate) fn h_half_step(
@@ -330,19 +564,7 @@ pub(crate) fn h_half_step(
         hz: Rows::new(hz, nj1, 0),
         psi,
     };
-    let body = |i: usize, v: &mut HViews| {
-        // The axis row of H_r is derived, its outer-wall row is normal H on
-        // a PEC wall and stays zero: H_r rows 1..nr.
-        let mut hr = if i >= 1 { v.hr.row(i) } else { None };
-        let hphi = v.hphi.row(i).expect("an H_φ row");
-        let hz = v.hz.row(i).expect("an H_z row");
-        if bulk {
-            h_bulk(c, &e, i, hr.as_deref_mut(), hphi, hz);
-        }
-        if let Some(p) = params {
-            p.h_row(i, c, &e, hr, hphi, hz, &mut v.psi);
-        }
-    };
+    let body = |i: usize, v: &mut HViews| h_row(c, &e, params, bulk, i, v);
     let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
     for_rows(0, nr, views, Split { heavy }, team, &body);
 }
@@ -388,24 +610,61 @@ pub(crate) fn e_half_step(
         ez: Rows::new(ez, nz, 0),
         psi,
     };
-    let body = |i: usize, v: &mut EViews| {
-        let er = v.er.row(i).expect("an E_r row");
-        // E_φ: axis derived, outer wall held: rows 1..nr. E_z: rows 1..nr,
-        // and the axis row for m = 0.
-        let mut ephi = if i >= 1 { v.ephi.row(i) } else { None };
-        let ez = v.ez.row(i).expect("an E_z row");
-        if bulk {
-            e_bulk(c, &h, i, er, ephi.as_deref_mut(), ez);
-            if let Some(cp) = &c.coupling {
-                cp.apply_row(i, curls, er, ez);
-            }
-        }
-        if let Some(p) = params {
-            p.e_row(i, c, &h, er, ephi, ez, &mut v.psi);
-        }
-    };
+    let body = |i: usize, v: &mut EViews| e_row(c, &h, curls, params, bulk, i, v);
     let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
     for_rows(0, nr, views, Split { heavy }, team, &body);
+}
+
+/// H row `i`: its bulk update (if `bulk`), then its absorber terms (if
+/// `params`).
+#[inline]
+fn h_row(
+    c: &Coefficients,
+    e: &EFields,
+    params: Option<&PmlParams>,
+    bulk: bool,
+    i: usize,
+    v: &mut HViews,
+) {
+    // The axis row of H_r is derived, its outer-wall row is normal H on a
+    // PEC wall and stays zero: H_r rows 1..nr.
+    let mut hr = if i >= 1 { v.hr.row(i) } else { None };
+    let hphi = v.hphi.row(i).expect("an H_φ row");
+    let hz = v.hz.row(i).expect("an H_z row");
+    if bulk {
+        h_bulk(c, e, i, hr.as_deref_mut(), hphi, hz);
+    }
+    if let Some(p) = params {
+        p.h_row(i, c, e, hr, hphi, hz, &mut v.psi);
+    }
+}
+
+/// E row `i`: its bulk update and off-diagonal coupling (if `bulk`), then
+/// its absorber terms (if `params`).
+#[inline]
+fn e_row(
+    c: &Coefficients,
+    h: &HFields,
+    curls: &[f64],
+    params: Option<&PmlParams>,
+    bulk: bool,
+    i: usize,
+    v: &mut EViews,
+) {
+    let er = v.er.row(i).expect("an E_r row");
+    // E_φ: axis derived, outer wall held: rows 1..nr. E_z: rows 1..nr, and
+    // the axis row for m = 0.
+    let mut ephi = if i >= 1 { v.ephi.row(i) } else { None };
+    let ez = v.ez.row(i).expect("an E_z row");
+    if bulk {
+        e_bulk(c, h, i, er, ephi.as_deref_mut(), ez);
+        if let Some(cp) = &c.coupling {
+            cp.apply_row(i, curls, er, ez);
+        }
+    }
+    if let Some(p) = params {
+        p.e_row(i, c, h, er, ephi, ez, &mut v.psi);
+    }
 }
 
 /// The bulk update of H row `i` (H_r on rows 1..nr only). On rows i ≥ 1

@@ -256,6 +256,10 @@ macro_rules! split_rows {
             pub(crate) fn none() -> $t<'a> {
                 $t { $($f: Rows::none()),* }
             }
+            /// The same rows, borrowed for a shorter time.
+            pub(crate) fn reborrow(&mut self) -> $t<'_> {
+                $t { $($f: self.$f.reborrow()),* }
+            }
             /// Rows before `i` and from `i` on.
             pub(crate) fn split_at(self, i: usize) -> ($t<'a>, $t<'a>) {
                 $(let $f = self.$f.split_at(i);)*
@@ -475,6 +479,11 @@ impl Pml {
         })
     }
 
+    /// The factors of the absorbers' recursions.
+    pub(crate) fn params(&self) -> &PmlParams {
+        &self.params
+    }
+
     /// Bytes held by the auxiliary fields.
     pub fn bytes(&self) -> usize {
         let p = &self.psi;
@@ -499,6 +508,20 @@ impl Pml {
 
     /// The factors and the H half step's auxiliary fields by row.
     pub(crate) fn split_h(&mut self) -> (&PmlParams, HPsi<'_>) {
+        let (p, h, _) = self.split_both();
+        (p, h)
+    }
+
+    /// The factors and the E half step's auxiliary fields by row.
+    pub(crate) fn split_e(&mut self) -> (&PmlParams, EPsi<'_>) {
+        let (p, _, e) = self.split_both();
+        (p, e)
+    }
+
+    /// The factors and both half steps' auxiliary fields by row (they are
+    /// separate arrays: a member of a stepping team holds its rows of both
+    /// through many steps).
+    pub(crate) fn split_both(&mut self) -> (&PmlParams, HPsi<'_>, EPsi<'_>) {
         let (nz, nj1) = (self.nz, self.nz + 1);
         let p = &mut self.psi;
         let first = p.first;
@@ -512,16 +535,6 @@ impl Pml {
                 hz_d: Rows::new(&mut p.hz_d, nj1, first),
                 hz_bar: Rows::new(&mut p.hz_bar, nj1, first),
             },
-        )
-    }
-
-    /// The factors and the E half step's auxiliary fields by row.
-    pub(crate) fn split_e(&mut self) -> (&PmlParams, EPsi<'_>) {
-        let (nz, nj1) = (self.nz, self.nz + 1);
-        let p = &mut self.psi;
-        let first = p.first;
-        (
-            &self.params,
             EPsi {
                 er_z: Rows::new(&mut p.er_z, p.we, 0),
                 ephi_z: Rows::new(&mut p.ephi_z, p.we, 0),

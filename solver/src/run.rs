@@ -371,7 +371,8 @@ fn run_in(
         Ok(e)
     };
     // The fused full step (same bits as whole passes; see `kernel::step`).
-    let mut step_once = |f: &mut Fields| crate::kernel::step_on(f, &coeffs, pml.as_mut(), team);
+    let mut steps =
+        |f: &mut Fields, n: usize| crate::kernel::steps_on(f, &coeffs, pml.as_mut(), team, n);
     let mut peak_energy: f64 = 0.0;
     // Cell updates between two progress reports.
     let chunk = 64 * g.cells() as u64;
@@ -379,7 +380,7 @@ fn run_in(
     // of the run's round-off (see `invert`'s noise floor).
     let mut drive_peak: f64 = 0.0;
     for &s in &table {
-        step_once(&mut f);
+        steps(&mut f, 1);
         inject(&mut f, &coeffs, &plan.sources, s);
         step += 1;
         if step % plan.decimation == 0 {
@@ -421,9 +422,14 @@ fn run_in(
     for (target, scout) in schedule {
         let mut decayed = false;
         while signals[0].len() < target {
-            for _ in 0..plan.decimation {
-                step_once(&mut f);
-                step += 1;
+            // The steps to the next sample, in stretches that end where
+            // the energy is checked (every 64 steps).
+            let mut left = plan.decimation;
+            while left > 0 {
+                let n = left.min(64 - step % 64);
+                steps(&mut f, n);
+                step += n;
+                left -= n;
                 if step % 64 == 0 {
                     let e = guard(&f, step, reference)?;
                     decayed |= e < 1e-28 * peak_energy;
@@ -507,10 +513,8 @@ fn run_in(
         }
         let extra = (plan.first_check / 4).max(16);
         for _ in 0..extra {
-            for _ in 0..plan.decimation {
-                step_once(&mut f);
-                step += 1;
-            }
+            steps(&mut f, plan.decimation);
+            step += plan.decimation;
             let t = step as f64 * plan.dt;
             for a in accs.iter_mut() {
                 a.add(&f, t, plan.dt);

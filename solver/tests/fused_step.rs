@@ -2,13 +2,14 @@
 //! once the absorber's terms of that row, its z-layer spans and its radial
 //! terms) gives the same bits as the step taken as whole passes
 //! (`update_h`, `Pml::correct_h`, `update_e`, `Pml::correct_e`), on one
-//! thread and with rows split over a team of two and of three. An exact
+//! thread and with rows split over a team of two and of three, one step at
+//! a time (`step_on`) or many per job of the team (`steps_on`). An exact
 //! check (no tolerance): both ways do the same operations on every entry in
 //! the same order.
 use lathe_mesh::{fill, Body, Component, FillOptions, Grid, Material, Shape};
 use lathe_solver::coefficients::Coefficients;
 use lathe_solver::fpu::FlushSubnormals;
-use lathe_solver::kernel::{step_on, update_e, update_h};
+use lathe_solver::kernel::{step_on, steps_on, update_e, update_h};
 use lathe_solver::pml::Pml;
 use lathe_solver::team::with_team;
 use lathe_solver::{stability_limit, Absorber, Fields, OuterWall, Walls, ZWall};
@@ -22,14 +23,25 @@ fn absorber(cells: usize) -> Absorber {
     }
 }
 
-/// Fields after `steps` steps from a seeded start, fused or by passes.
+/// How `advance` steps.
+#[derive(Clone, Copy, PartialEq)]
+enum Way {
+    /// `update_h`, `Pml::correct_h`, `update_e`, `Pml::correct_e`.
+    Passes,
+    /// `step_on`, one step per call.
+    Fused,
+    /// `steps_on`, in stretches of 1, 7, 13, 1, 7, 13, … steps.
+    Stretches,
+}
+
+/// Fields after `steps` steps from a seeded start, stepped `way`.
 fn advance(
     g: &Grid,
     bodies: &[Body],
     walls: &Walls,
     m: u32,
     steps: usize,
-    fused: bool,
+    way: Way,
     threads: usize,
 ) -> Fields {
     let map = fill(g, bodies, FillOptions::default());
@@ -65,8 +77,20 @@ fn advance(
                     std::hint::spin_loop();
                 }
             }
+            if way == Way::Stretches {
+                let mut done = 0;
+                for n in [1, 7, 13].into_iter().cycle() {
+                    let n = n.min(steps - done);
+                    steps_on(&mut f, &c, pml.as_mut(), team, n);
+                    done += n;
+                    if done == steps {
+                        break;
+                    }
+                }
+                return f;
+            }
             for _ in 0..steps {
-                if fused {
+                if way == Way::Fused {
                     step_on(&mut f, &c, pml.as_mut(), team);
                 } else {
                     update_h(&mut f, &c);
@@ -181,10 +205,13 @@ fn fused_step_gives_the_bits_of_whole_passes() {
         let bodies = std::slice::from_ref(body);
         for &m in ms {
             let what = format!("{name}, m = {m}");
-            let passes = advance(&g, bodies, &walls, m, 60, false, 1);
+            let passes = advance(&g, bodies, &walls, m, 60, Way::Passes, 1);
             for threads in [1, 2, 3] {
-                let fused = advance(&g, bodies, &walls, m, 60, true, threads);
+                let fused = advance(&g, bodies, &walls, m, 60, Way::Fused, threads);
                 assert_same_bits(&passes, &fused, &format!("{what}, {threads} thread(s)"));
+                let s = advance(&g, bodies, &walls, m, 60, Way::Stretches, threads);
+                let how = format!("{what}, {threads} thread(s), stretches of steps");
+                assert_same_bits(&passes, &s, &how);
             }
         }
     }
