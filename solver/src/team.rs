@@ -424,41 +424,36 @@ mod tests {
         }
     }
 
-    #[test]
-    fn a_panic_in_a_phase_releases_the_others_and_reaches_the_owner() {
+    /// Runs `f` with a team of two whose helper has attached, and returns
+    /// whether it panicked (the panic having reached the owner).
+    fn panics_on_a_team_of_two(f: impl Fn(&Team) + Send + Sync) -> bool {
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(2)
             .build()
             .unwrap();
-        let r = catch_unwind(AssertUnwindSafe(|| {
+        catch_unwind(AssertUnwindSafe(|| {
             pool.install(|| {
                 with_team(true, |team| {
                     let t = team.expect("a team on two threads");
                     wait(|| t.members() == 2);
-                    t.run_phases(2, 10, &|b, p| {
-                        assert!(b == 0 || p < 5, "a deliberate failure")
-                    });
+                    f(t);
                 })
             })
-        }));
-        assert!(r.is_err());
+        }))
+        .is_err()
+    }
+
+    #[test]
+    fn a_panic_in_a_phase_releases_the_others_and_reaches_the_owner() {
+        assert!(panics_on_a_team_of_two(|t| t.run_phases(2, 10, &|b, p| {
+            assert!(b == 0 || p < 5, "a deliberate failure")
+        })));
     }
 
     #[test]
     fn a_helpers_panic_reaches_the_owner() {
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(2)
-            .build()
-            .unwrap();
-        let r = catch_unwind(AssertUnwindSafe(|| {
-            pool.install(|| {
-                with_team(true, |team| {
-                    let t = team.expect("a team on two threads");
-                    wait(|| t.members() == 2);
-                    t.run(2, &|b| assert_eq!(b, 0, "a deliberate failure"));
-                })
-            })
-        }));
-        assert!(r.is_err());
+        assert!(panics_on_a_team_of_two(
+            |t| t.run(2, &|b| { assert_eq!(b, 0, "a deliberate failure") })
+        ));
     }
 }
