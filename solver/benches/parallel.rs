@@ -17,7 +17,8 @@
 //! 3. The last run of (1) alone: the full step's rate of the benchmark
 //!    grid (95 × 95, m = 1) on 1 and on 2 threads, its rows split. This is
 //!    how fast the last of the three runs steps once both threads are on
-//!    it; the three orders reach 0.56 when it is about 1.6× or more.
+//!    it (the three orders came to 0.53–0.57 where it ran at 1.6–1.7×;
+//!    solver/benches/RESULTS.md §3).
 //!
 //! The runs' results on 1 and 2 threads are compared bit for bit (they
 //! must be identical). Timing is printed, never asserted.

@@ -14,8 +14,8 @@ use crate::plan::Problem;
 use crate::pml::Pml;
 use std::time::Instant;
 
-/// Steps taken at once by [`step_rate`] (one stretch between a run's probe
-/// samples is typically tens of steps).
+/// Steps taken at once by [`step_rate`] (a run steps in stretches of up to
+/// 64, to its next probe sample or energy check).
 const STRETCH: usize = 16;
 
 /// Cell updates per second of the full step of `problem` at order `m` and

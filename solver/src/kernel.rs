@@ -63,9 +63,9 @@
 //! member, rows of the radial absorber weighing 2.5 plain rows, handed over
 //! by spinning (see [`crate::team`]). [`steps_on`] keeps the blocks through
 //! a stretch of steps, the members meeting at a barrier after each half
-//! step. Each block runs in the floating-point mode of the
-//! owner (flush-to-zero while a run steps). Every entry is computed by the
-//! same expression on any thread, so results are bitwise identical for any
+//! step. Each block runs in the floating-point mode of the owner
+//! (flush-to-zero while a run steps). Every entry is computed by the same
+//! expression on any thread, so results are bitwise identical for any
 //! thread count.
 //!
 //! # Walls
@@ -76,7 +76,7 @@ use crate::boundary::ZWall;
 use crate::coefficients::Coefficients;
 use crate::fields::Fields;
 use crate::pml::{EPsi, HPsi, Pml, PmlParams};
-use crate::team::{Team, MAX_MEMBERS};
+use crate::team::{Line, Team, MAX_MEMBERS};
 use std::sync::Mutex;
 
 /// Rows `first..` of a row-major array with rows of `len` entries, as one
@@ -166,6 +166,13 @@ struct Split {
 const RADIAL_ROW_WEIGHT: f64 = 2.5;
 
 impl Split {
+    /// The split of `nr` rows under the absorbers of `params` (none: every
+    /// row plain).
+    fn of(params: Option<&PmlParams>, nr: usize) -> Split {
+        let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
+        Split { heavy }
+    }
+
     /// Cost of rows 0..i.
     fn cost(&self, i: usize) -> f64 {
         i as f64 + (RADIAL_ROW_WEIGHT - 1.0) * i.saturating_sub(self.heavy) as f64
@@ -341,11 +348,7 @@ pub fn steps_on(
     };
     let (nr, nz) = (c.nr, c.nz);
     let nj1 = nz + 1;
-    let heavy = pml
-        .as_deref()
-        .and_then(|p| p.params().radial_first())
-        .unwrap_or(nr);
-    let bounds = Split { heavy }.bounds(0, nr, k);
+    let bounds = Split::of(pml.as_deref().map(Pml::params), nr).bounds(0, nr, k);
     if let Some(cp) = &c.coupling {
         f.curls.resize(cp.curl_len(), 0.0);
     }
@@ -422,11 +425,6 @@ pub fn steps_on(
 
 /// One member's rows of the absorber's auxiliary fields, both half steps.
 type PsiBlock<'a> = (HPsi<'a>, EPsi<'a>);
-
-/// A value on a cache line of its own.
-#[repr(align(128))]
-#[derive(Default)]
-struct Line<T>(T);
 
 /// One array of [`Fields`] as a raw pointer and length, shared by the
 /// members of a stepping team for [`steps_on`].
@@ -565,8 +563,7 @@ pub(crate) fn h_half_step(
         psi,
     };
     let body = |i: usize, v: &mut HViews| h_row(c, &e, params, bulk, i, v);
-    let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
-    for_rows(0, nr, views, Split { heavy }, team, &body);
+    for_rows(0, nr, views, Split::of(params, nr), team, &body);
 }
 
 /// The E half step: every row's bulk update and off-diagonal coupling (if
@@ -611,8 +608,7 @@ pub(crate) fn e_half_step(
         psi,
     };
     let body = |i: usize, v: &mut EViews| e_row(c, &h, curls, params, bulk, i, v);
-    let heavy = params.and_then(|p| p.radial_first()).unwrap_or(nr);
-    for_rows(0, nr, views, Split { heavy }, team, &body);
+    for_rows(0, nr, views, Split::of(params, nr), team, &body);
 }
 
 /// H row `i`: its bulk update (if `bulk`), then its absorber terms (if

@@ -50,7 +50,7 @@ const SPINS: u32 = 1 << 12;
 /// invalidated by another's.
 #[repr(align(128))]
 #[derive(Default)]
-struct Line<T>(T);
+pub(crate) struct Line<T>(pub(crate) T);
 
 /// The job a member runs: its block index.
 type Job<'a> = &'a (dyn Fn(usize) + Sync);
