@@ -366,6 +366,8 @@ pub struct Radiator<'a> {
     surface: HuygensBox,
     radii: Vec<f64>,
     rings: Vec<Ring>,
+    /// J_{m−1}, J_m, J_{m+1} of k ρ sin θ for every radius and angle.
+    bessel: special::BesselTriplets,
     p_surface: f64,
     /// Farthest distance of a current from the reference point, m.
     reach: f64,
@@ -423,6 +425,8 @@ impl<'a> Radiator<'a> {
             .iter()
             .map(|r| radii[r.radius].hypot(r.z))
             .fold(0.0, f64::max);
+        let rho_max = radii.iter().fold(0.0, |a: f64, &r| a.max(r));
+        let bessel = special::BesselTriplets::new(data.m, k.norm() * rho_max, k.im.abs() * rho_max);
         Ok(Radiator {
             data,
             components,
@@ -433,6 +437,7 @@ impl<'a> Radiator<'a> {
             surface,
             radii,
             rings,
+            bessel,
             p_surface,
             reach,
             leakage,
@@ -491,7 +496,7 @@ impl<'a> Radiator<'a> {
             .radii
             .iter()
             .map(|&rho| {
-                let (a, b, c) = special::bessel_j_triplet(m, self.k * rho * st);
+                let (a, b, c) = self.bessel.get(self.k * rho * st);
                 (PI * jm1 * (a - c), PI * jm1 * (a + c), 2.0 * PI * jm * b)
             })
             .collect();

@@ -66,6 +66,110 @@ pub fn bessel_j_triplet(m: u32, z: C) -> (C, C, C) {
     (lo, mid * s, hi * s)
 }
 
+/// The rule of [`bessel_j_triplet`] for one order m with its node values
+/// computed once: for many arguments (a far field's radii at every angle),
+/// a triplet then costs one real exponential and one sine–cosine pair per
+/// two nodes instead of five transcendental calls per node.
+///
+/// With N nodes τ_k = 2πk/N (N even), the node k + N/2 has sin τ = −sin τ_k,
+/// so its e^{jz sin τ} is the reciprocal b_k⁻¹ of node k's b_k, and its phase
+/// e^{−jnτ} is (−1)ⁿ times node k's. The rule's sum over all N nodes is
+/// therefore, exactly in arithmetic,
+///
+/// ```text
+/// J_n(z) ≈ (1/N) Σ_{k<N/2} e^{−jnτ_k} (b_k + (−1)ⁿ b_k⁻¹),
+/// b_k = e^{−Im z sin τ_k} (cos(Re z sin τ_k) + j sin(Re z sin τ_k)),
+/// ```
+///
+/// and node N/2 − k has the same sin τ as node k, with the phase
+/// (−1)ⁿ e^{+jnτ_k}: the pair's phases add to 2 cos nτ_k for even n and to
+/// −2j sin nτ_k for odd n, so b is needed at k ≤ N/4 only (k = 0 and
+/// k = N/4 stand alone). The node count N is the one [`bessel_j_triplet`]
+/// chooses for each z, hence the same aliasing bound; only the rounding
+/// differs. The tables (sin τ_k and e^{−j2πq/N}) are kept for every N that arguments within
+/// |z| ≤ `a_max`, |Im z| ≤ `b_max` need; a larger argument takes the
+/// direct rule.
+#[derive(Debug, Clone)]
+pub struct BesselTriplets {
+    m: u32,
+    /// Index N/2: the tables of the N-node rule (empty where unused).
+    rules: Vec<NodeTable>,
+}
+
+/// sin τ_k for k ≤ N/4 and the phases e^{−j2πq/N} for q < N.
+#[derive(Debug, Clone, Default)]
+struct NodeTable {
+    sin: Vec<f64>,
+    phase: Vec<C>,
+}
+
+impl BesselTriplets {
+    /// The tables for order `m` (orders m − 1, m, m + 1) and arguments up
+    /// to |z| ≤ `a_max`, |Im z| ≤ `b_max`.
+    pub fn new(m: u32, a_max: f64, b_max: f64) -> BesselTriplets {
+        // A hair of margin, so that an argument computed to within rounding
+        // of the bound still finds its table.
+        let grow = 1.0 + 1e-9;
+        let n_max = rectangle_nodes(m + 1, a_max.abs() * grow, b_max.abs() * grow);
+        let mut rules = vec![NodeTable::default(); n_max / 2 + 1];
+        for half in 1..=n_max / 2 {
+            let n = 2 * half;
+            let step = 2.0 * PI / n as f64;
+            rules[half] = NodeTable {
+                sin: (0..=half / 2).map(|k| (k as f64 * step).sin()).collect(),
+                phase: (0..n)
+                    .map(|q| {
+                        let a = q as f64 * step;
+                        C::new(a.cos(), -a.sin())
+                    })
+                    .collect(),
+            };
+        }
+        BesselTriplets { m, rules }
+    }
+
+    /// J_{m−1}(z), J_m(z), J_{m+1}(z), as [`bessel_j_triplet`] (with
+    /// J_{−1} = −J_1 for m = 0).
+    pub fn get(&self, z: C) -> (C, C, C) {
+        let m = self.m;
+        let top = m + 1;
+        let nodes = rectangle_nodes(top, z.norm(), z.im.abs());
+        let Some(t) = self.rules.get(nodes / 2).filter(|t| t.phase.len() == nodes) else {
+            return bessel_j_triplet(m, z);
+        };
+        let lo_order = if m == 0 { 1 } else { m - 1 } as usize;
+        let (mid_order, hi_order) = (m as usize, top as usize);
+        let (mut lo, mut mid, mut hi) = (C::new(0.0, 0.0), C::new(0.0, 0.0), C::new(0.0, 0.0));
+        // Orders m ± 1 have the parity opposite to m's.
+        let mid_even = m % 2 == 0;
+        let half = nodes / 2;
+        for (k, &s) in t.sin[..=half / 2].iter().enumerate() {
+            let (sn, cs) = (z.re * s).sin_cos();
+            let g = (-z.im * s).exp();
+            let b = C::new(g * cs, g * sn);
+            let bi = C::new(cs / g, -sn / g);
+            let (even, odd) = (b + bi, b - bi);
+            let (x_mid, x_side) = if mid_even { (even, odd) } else { (odd, even) };
+            // The phase of order n at node k, or of the pair (k, N/2 − k).
+            let alone = k == 0 || 2 * k == half;
+            let phase = |n: usize| {
+                let p = t.phase[(n * k) % nodes];
+                match (alone, n % 2 == 0) {
+                    (true, _) => p,
+                    (false, true) => C::new(2.0 * p.re, 0.0),
+                    (false, false) => C::new(0.0, 2.0 * p.im),
+                }
+            };
+            lo += x_side * phase(lo_order);
+            mid += x_mid * phase(mid_order);
+            hi += x_side * phase(hi_order);
+        }
+        let s = 1.0 / nodes as f64;
+        let lo = if m == 0 { -lo * s } else { lo * s };
+        (lo, mid * s, hi * s)
+    }
+}
+
 /// Bessel function J_n(z), integer n ≥ 0, complex z (see [`bessel_j_triplet`]).
 pub fn bessel_j_complex(n: u32, z: C) -> C {
     if n == 0 {
