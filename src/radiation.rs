@@ -19,6 +19,7 @@ use lathe_solver::farfield::{
     Plane, Radiator,
 };
 use lathe_solver::{OuterWall, ZWall};
+use rayon::prelude::*;
 use serde_json::{json, Value};
 use std::fmt::Write as _;
 
@@ -172,32 +173,47 @@ pub fn radiation(
         return Ok(None);
     }
     let probs = problems(scenario).map_err(RadiationError::Input)?;
-    let mut modes = Vec::new();
-    let mut skipped = Vec::new();
+    // Every mode's figures are independent of the others': they are worked
+    // out side by side on the caller's rayon pool and collected in the
+    // modes' order, so the figures, the skipped list and the first error do
+    // not depend on the number of threads.
+    let mut jobs = Vec::new();
     for run in &study.runs {
         let (_, _, problem) = probs
             .iter()
             .find(|(p, _, _)| *p == run.plane)
             .ok_or(RadiationError::Mismatch(wall_name(run.plane)))?;
-        let out = &run.output;
-        let lower = lower_space(run.plane, out.walls.bottom);
+        let lower = lower_space(run.plane, run.output.walls.bottom);
         let mut fo = FarFieldOptions::new(lower);
         fo.margin_cells = opts.margin_cells;
-        for (k, md) in out.modes.iter().enumerate() {
+        jobs.extend((0..run.output.modes.len()).map(|k| (run, problem, fo, k)));
+    }
+    let done: Vec<Result<Result<Radiation, Skipped>, RadiationError>> = jobs
+        .par_iter()
+        .map(|&(run, problem, fo, k)| {
+            let out = &run.output;
+            let md = &out.modes[k];
             let data = match ModeData::from_run(out, k, &problem.materials) {
                 Ok(d) => d,
                 Err(e) => {
-                    skipped.push(Skipped {
+                    return Ok(Err(Skipped {
                         label: md.label.clone(),
                         m: md.m,
                         freq_hz: md.freq_hz,
                         reason: e.to_string(),
-                    });
-                    continue;
+                    }))
                 }
             };
             let rad = Radiator::new(data, &fo).map_err(RadiationError::FarField)?;
-            modes.push(figures(&rad, md, run.plane, opts));
+            Ok(Ok(figures(&rad, md, run.plane, opts)))
+        })
+        .collect();
+    let mut modes = Vec::new();
+    let mut skipped = Vec::new();
+    for d in done {
+        match d? {
+            Ok(r) => modes.push(r),
+            Err(s) => skipped.push(s),
         }
     }
     modes.sort_by(|a, b| a.freq_hz.total_cmp(&b.freq_hz).then(a.m.cmp(&b.m)));

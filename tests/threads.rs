@@ -1,6 +1,7 @@
 //! Results must not depend on the number of threads: orders run in
-//! parallel, and rows are updated in parallel on large grids. Compared
-//! bitwise, with the row-parallel update forced on.
+//! parallel, rows are updated in parallel on large grids, and the modes'
+//! radiation figures are worked out in parallel. Compared bitwise, with the
+//! row-parallel update forced on.
 use lathe::scenario::Scenario;
 use lathe::solver::solve;
 
@@ -107,4 +108,34 @@ fn solves_side_by_side_give_the_bits_of_one_alone() {
             assert_eq!(r, &alone, "round {round}, solve {k}");
         }
     }
+}
+
+#[test]
+fn radiation_figures_do_not_depend_on_the_threads() {
+    // Each mode's far field is worked out on its own thread; the figures,
+    // their order and the skipped list must be those of one thread.
+    use lathe::radiation::{radiation, RadiationOptions};
+    let s = Scenario::parse(SPHERE, "hemisphere").unwrap();
+    let pool = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+    };
+    let study = pool(2).install(|| lathe::study::run_study(&s).unwrap());
+    let figures = |threads: usize| {
+        pool(threads).install(|| {
+            radiation(&study, &s, &RadiationOptions::default())
+                .unwrap()
+                .expect("an open structure")
+        })
+    };
+    let one = figures(1);
+    assert!(
+        one.modes.len() >= 3,
+        "too few modes ({}) for the comparison to mean much",
+        one.modes.len()
+    );
+    assert_eq!(one, figures(2));
+    assert_eq!(one, figures(3));
 }

@@ -71,7 +71,10 @@
 //!
 //! and the far field of order m is E_θ = F_θ(θ) cos mφ, E_φ = F_φ(θ) sin mφ
 //! (the same split as the near field), r e^{−jk̃r} removed ([`FarField`]).
-//! Bessel functions of complex argument: [`special::bessel_j_triplet`].
+//! Bessel functions of complex argument: [`special::bessel_j_triplet`], by a
+//! rectangle rule whose node values each [`Radiator`] tables once
+//! ([`special::BesselTriplets`]; the far field's angles then cost one
+//! exponential and one sine–cosine pair per four nodes and radius).
 //!
 //! # Quadrature on the staggered grid (second order)
 //! The side lies on an integer radius i_s, the top on an integer row j_t.

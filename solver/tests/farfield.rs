@@ -820,7 +820,11 @@ fn tabled_bessel_triplets_match_the_direct_rule() {
                 let (a, b, c) = table.get(z);
                 let (ra, rb, rc) = bessel_j_triplet(m, z);
                 let scale = y.abs().exp();
-                for (got, want, n) in [(a, ra, m as i64 - 1), (b, rb, m as i64), (c, rc, m as i64 + 1)] {
+                for (got, want, n) in [
+                    (a, ra, m as i64 - 1),
+                    (b, rb, m as i64),
+                    (c, rc, m as i64 + 1),
+                ] {
                     let e = (got - want).norm() / scale;
                     worst = worst.max(e);
                     assert!(e < 1e-13, "J_{n}({z}) at m = {m}: {got} against {want}");

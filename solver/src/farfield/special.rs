@@ -111,20 +111,21 @@ impl BesselTriplets {
         // of the bound still finds its table.
         let grow = 1.0 + 1e-9;
         let n_max = rectangle_nodes(m + 1, a_max.abs() * grow, b_max.abs() * grow);
-        let mut rules = vec![NodeTable::default(); n_max / 2 + 1];
-        for half in 1..=n_max / 2 {
-            let n = 2 * half;
-            let step = 2.0 * PI / n as f64;
-            rules[half] = NodeTable {
-                sin: (0..=half / 2).map(|k| (k as f64 * step).sin()).collect(),
-                phase: (0..n)
-                    .map(|q| {
-                        let a = q as f64 * step;
-                        C::new(a.cos(), -a.sin())
-                    })
-                    .collect(),
-            };
-        }
+        let rules = (0..=n_max / 2)
+            .map(|half| {
+                let n = 2 * half;
+                let step = 2.0 * PI / n.max(1) as f64;
+                NodeTable {
+                    sin: (0..=half / 2).map(|k| (k as f64 * step).sin()).collect(),
+                    phase: (0..n)
+                        .map(|q| {
+                            let a = q as f64 * step;
+                            C::new(a.cos(), -a.sin())
+                        })
+                        .collect(),
+                }
+            })
+            .collect();
         BesselTriplets { m, rules }
     }
 
