@@ -96,6 +96,12 @@ pub struct BesselTriplets {
     rules: Vec<NodeTable>,
 }
 
+/// Most nodes [`BesselTriplets`] tables. The tables of every N up to it
+/// hold about 1.25 (N/2)² values: 5 MiB at 1024, enough for |z| up to
+/// about 980 (N is about |z| + m + 30); larger arguments take the direct
+/// rule.
+const MAX_TABLED_NODES: usize = 1024;
+
 /// sin τ_k for k ≤ N/4 and the phases e^{−j2πq/N} for q < N.
 #[derive(Debug, Clone, Default)]
 struct NodeTable {
@@ -110,7 +116,8 @@ impl BesselTriplets {
         // A hair of margin, so that an argument computed to within rounding
         // of the bound still finds its table.
         let grow = 1.0 + 1e-9;
-        let n_max = rectangle_nodes(m + 1, a_max.abs() * grow, b_max.abs() * grow);
+        let n_max =
+            rectangle_nodes(m + 1, a_max.abs() * grow, b_max.abs() * grow).min(MAX_TABLED_NODES);
         let rules = (0..=n_max / 2)
             .map(|half| {
                 let n = 2 * half;
