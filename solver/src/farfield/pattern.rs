@@ -231,21 +231,27 @@ impl Radiator<'_> {
         }
     }
 
-    /// One cut at azimuth `phi` (rad), θ from −end to end in `step_deg`.
-    fn cut(&self, phi: f64, step_deg: f64, pol: Polarisation, p: f64) -> Cut {
+    /// The angles of a cut, −end … end in `step_deg` (degrees, clamped to
+    /// ±end), as k·step for k = −n … n.
+    fn cut_angles(&self, step_deg: f64) -> (i64, impl Fn(i64) -> f64) {
         let end = self.theta_end().to_degrees();
         let n = (end / step_deg).round() as i64;
+        (n, move |k: i64| (k as f64 * step_deg).clamp(-end, end))
+    }
+
+    /// One cut at azimuth `phi` (rad), θ from −end to end in `step_deg`,
+    /// from the far field at θ = |k|·step, k = 0 … n (`fields[k]`): the
+    /// angle −θ at φ is θ at φ + π, and the far field's θ dependence is the
+    /// same at every φ.
+    fn cut(&self, phi: f64, step_deg: f64, pol: Polarisation, p: f64, fields: &[FarField]) -> Cut {
+        let (n, angle) = self.cut_angles(step_deg);
         let mut theta_deg = Vec::new();
         let (mut co, mut cross) = (Vec::new(), Vec::new());
         for k in -n..=n {
-            let td = (k as f64 * step_deg).clamp(-end, end);
-            let (t, ph) = if td < 0.0 {
-                (-td.to_radians(), phi + PI)
-            } else {
-                (td.to_radians(), phi)
-            };
-            let f = self.far_field(t);
-            let (et, ep) = self.components_at(&f, ph);
+            let td = angle(k);
+            let ph = if td < 0.0 { phi + PI } else { phi };
+            let f = &fields[k.unsigned_abs() as usize];
+            let (et, ep) = self.components_at(f, ph);
             let (c, x) = pol.split(et, ep, ph);
             let d = |e: C| 4.0 * PI * e.norm_sqr() / (2.0 * ETA0 * p);
             theta_deg.push(td);
@@ -270,11 +276,16 @@ impl Radiator<'_> {
         let p = self.far_power();
         let pol = self.polarisation();
         let m = self.m().max(1) as f64;
+        // The far field at each |θ| once, for all three cuts and both signs.
+        let (n, angle) = self.cut_angles(step_deg);
+        let fields: Vec<FarField> = (0..=n)
+            .map(|k| self.far_field(angle(k).to_radians()))
+            .collect();
         Cuts {
             polarisation: pol,
-            e_plane: self.cut(0.0, step_deg, pol, p),
-            h_plane: self.cut(0.5 * PI / m, step_deg, pol, p),
-            diagonal: self.cut(0.25 * PI / m, step_deg, pol, p),
+            e_plane: self.cut(0.0, step_deg, pol, p, &fields),
+            h_plane: self.cut(0.5 * PI / m, step_deg, pol, p, &fields),
+            diagonal: self.cut(0.25 * PI / m, step_deg, pol, p, &fields),
         }
     }
 
