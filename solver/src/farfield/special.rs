@@ -69,7 +69,7 @@ pub fn bessel_j_triplet(m: u32, z: C) -> (C, C, C) {
 /// The rule of [`bessel_j_triplet`] for one order m with its node values
 /// computed once: for many arguments (a far field's radii at every angle),
 /// a triplet then costs one real exponential and one sine–cosine pair per
-/// two nodes instead of five transcendental calls per node.
+/// four nodes instead of five transcendental calls per node.
 ///
 /// With N nodes τ_k = 2πk/N (N even), the node k + N/2 has sin τ = −sin τ_k,
 /// so its e^{jz sin τ} is the reciprocal b_k⁻¹ of node k's b_k, and its phase
@@ -86,9 +86,9 @@ pub fn bessel_j_triplet(m: u32, z: C) -> (C, C, C) {
 /// −2j sin nτ_k for odd n, so b is needed at k ≤ N/4 only (k = 0 and
 /// k = N/4 stand alone). The node count N is the one [`bessel_j_triplet`]
 /// chooses for each z, hence the same aliasing bound; only the rounding
-/// differs. The tables (sin τ_k and e^{−j2πq/N}) are kept for every N that arguments within
-/// |z| ≤ `a_max`, |Im z| ≤ `b_max` need; a larger argument takes the
-/// direct rule.
+/// differs. The tables (sin τ_k and e^{−j2πq/N}) are kept for every N
+/// that arguments within |z| ≤ `a_max`, |Im z| ≤ `b_max` need, up to 1024
+/// nodes (|z| up to about 980); a larger argument takes the direct rule.
 #[derive(Debug, Clone)]
 pub struct BesselTriplets {
     m: u32,
