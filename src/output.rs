@@ -417,9 +417,11 @@ fn plan_one(
         }
         let _ = writeln!(
             s,
-            "  memory      {:.1} MiB: fields, coefficients, absorber and probes {:.1} MiB, mode fields up to {} × {:.1} MiB",
+            "  memory      {:.1} MiB: fields, coefficients, absorber and probes {:.1} MiB, early ring-down {:.1} MiB ({} samples), mode fields up to {} × {:.1} MiB",
             p.memory_bytes as f64 / 1048576.0,
             p.base_bytes as f64 / 1048576.0,
+            p.early_bytes as f64 / 1048576.0,
+            p.early_samples,
             p.max_mode_fields,
             p.mode_field_bytes as f64 / 1048576.0
         );

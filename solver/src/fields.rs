@@ -89,6 +89,14 @@ impl Fields {
         }
     }
 
+    /// Copies the six components of `other` (same grid) into these arrays,
+    /// without allocating.
+    pub fn copy_from(&mut self, other: &Fields) {
+        for c in Component::ALL {
+            self.get_mut(c).copy_from_slice(other.get(c));
+        }
+    }
+
     /// Sets every entry to zero.
     pub fn clear(&mut self) {
         for c in Component::ALL {

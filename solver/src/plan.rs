@@ -157,9 +157,28 @@ pub struct RunPlan {
     pub mode_field_bytes: usize,
     /// Most running transforms the run keeps (within its memory budget).
     pub max_mode_fields: usize,
+    /// Ring-down samples whose fields are kept until the first (scout)
+    /// check, so that the transforms opened there start with the ring-down
+    /// (0 when they would not fit; see [`EARLY_MAX_BYTES`]).
+    pub early_samples: usize,
+    /// Those fields, bytes (part of [`RunPlan::memory_bytes`]).
+    pub early_bytes: usize,
 }
 
+/// Most bytes a run spends on its early ring-down fields. With 32 samples
+/// that covers grids up to about 1.7 × 10⁵ cells; larger runs open their
+/// transforms at the first check, as before.
+pub const EARLY_MAX_BYTES: usize = 256 << 20;
+
 impl RunPlan {
+    /// The scout checks before the first check (sample counts, ascending):
+    /// harmonic inversion early in the ring-down that only opens running
+    /// transforms, so that strongly damped modes are transformed while they
+    /// still ring. At least 32 samples each.
+    pub fn scouts(&self) -> Vec<usize> {
+        scouts(self.first_check)
+    }
+
     /// The check schedule: sample counts at which harmonic inversion runs.
     pub fn checks(&self) -> Vec<usize> {
         let mut out = vec![self.first_check.min(self.max_samples)];
@@ -169,6 +188,14 @@ impl RunPlan {
         }
         out
     }
+}
+
+fn scouts(first_check: usize) -> Vec<usize> {
+    [8, 4, 2]
+        .iter()
+        .map(|d| first_check / d)
+        .filter(|&n| n >= 32)
+        .collect()
 }
 
 /// Plans the run of order `m`.
@@ -225,7 +252,18 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
         .max_mode_fields
         .min(crate::modefield::MAX_BYTES / mode_field_bytes.max(1))
         .max(1);
-    let memory_bytes = base_bytes + max_mode_fields * mode_field_bytes;
+    let mut memory_bytes = base_bytes + max_mode_fields * mode_field_bytes;
+    // The fields at every sample up to the first scout check (six real
+    // arrays each), when they fit both their own cap and the run's.
+    let early = scouts(first_check).first().copied().unwrap_or(0);
+    let early_bytes = early * 8 * nodes;
+    let (early_samples, early_bytes) =
+        if early_bytes <= EARLY_MAX_BYTES && memory_bytes + early_bytes <= o.max_memory {
+            (early, early_bytes)
+        } else {
+            (0, 0)
+        };
+    memory_bytes += early_bytes;
     if memory_bytes > o.max_memory {
         return Err(SolverError::TooMuchMemory {
             m,
@@ -254,5 +292,7 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
         base_bytes,
         mode_field_bytes,
         max_mode_fields,
+        early_samples,
+        early_bytes,
     })
 }

@@ -409,11 +409,15 @@ fn run_in(
     let mut converged = false;
     // Scout checks early in the ring-down only open running transforms, so
     // that strongly damped modes are transformed while they still ring.
-    let scouts: Vec<usize> = [8, 4, 2]
-        .iter()
-        .map(|d| plan.first_check / d)
-        .filter(|&n| n >= 32)
-        .collect();
+    let scouts = plan.scouts();
+    // The fields at every sample up to the first scout, kept (in arrays
+    // allocated here, before the ring-down) so that the transforms opened
+    // there start with the ring-down itself: a mode of Q 4 has decayed
+    // to e^{−5} by a first scout 32 samples in, and its transform from
+    // there on is swamped by what the demixing cannot remove (measured:
+    // DEVELOPERS.md, "Mode fields and the noise floor").
+    let mut early: Vec<Fields> = (0..plan.early_samples).map(|_| Fields::zeros(g)).collect();
+    let mut early_t: Vec<f64> = Vec::with_capacity(plan.early_samples);
     let schedule: Vec<(usize, bool)> = scouts
         .iter()
         .map(|&n| (n, true))
@@ -443,6 +447,10 @@ fn run_in(
             for a in accs.iter_mut() {
                 a.add(&f, t, plan.dt);
             }
+            if let Some(e) = early.get_mut(early_t.len()) {
+                e.copy_from(&f);
+                early_t.push(t);
+            }
         }
         if !scout {
             checks += 1;
@@ -461,12 +469,26 @@ fn run_in(
                 &problem.options.fdm,
             )
         })?;
+        // Every sample so far is kept while this is the first check: a new
+        // transform then takes them all, from the first of the ring-down.
+        let replay = !early_t.is_empty() && early_t.len() == signals[0].len();
         for md in &found {
             let fs = sampled(md);
             let known = accs.iter().any(|a| (a.freq_hz / fs - 1.0).abs() < 1e-5);
             if !known && accs.len() < acc_cap {
-                accs.push(Accumulator::new(fs, &f));
+                let mut a = Accumulator::new(fs, &f);
+                if replay {
+                    for (e, &t) in early.iter().zip(&early_t) {
+                        a.add(e, t, plan.dt);
+                    }
+                }
+                accs.push(a);
             }
+        }
+        if !early.is_empty() {
+            // Past the first check: the early fields are of no more use.
+            early = Vec::new();
+            early_t = Vec::new();
         }
         if !scout {
             // A transform that matches none of the modes found (a scout's
