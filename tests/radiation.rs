@@ -31,6 +31,40 @@ fn scenario(text: &str) -> Scenario {
     Scenario::parse(text, "test").unwrap()
 }
 
+/// A dielectric hemisphere (relative permittivity `eps`, radius
+/// `radius_mm`) on a PEC plane, absorbers on the outer radius and the top
+/// of a `region_mm` square region, orders `m` (e.g. "0, 1"), band in GHz.
+fn hemisphere_on_pec(
+    eps: f64,
+    radius_mm: f64,
+    region_mm: f64,
+    m: &str,
+    band: (f64, f64),
+) -> Scenario {
+    scenario(&format!(
+        r#"
+[region]
+radius = {region_mm:?}
+z_min = 0.0
+z_max = {region_mm:?}
+[boundary]
+outer = "pml"
+bottom = "pec"
+top = "pml"
+[[body]]
+shape = "sphere"
+radius = {radius_mm:?}
+center = 0.0
+eps_r = {eps:?}
+[search]
+m = [{m}]
+f_min = {:?}
+f_max = {:?}
+"#,
+        band.0, band.1
+    ))
+}
+
 fn db(x: f64) -> f64 {
     10.0 * x.log10()
 }
@@ -103,27 +137,7 @@ fn check_dipole(r: &Radiation, d_max: f64, te_m1: bool, what: &str) {
 #[test]
 fn n1_modes_of_hemisphere_and_sphere_radiate_as_dipoles() {
     let (eps, a) = (38.0, 4.7e-3);
-    let hemi = scenario(
-        r#"
-[region]
-radius = 14.0
-z_min = 0.0
-z_max = 14.0
-[boundary]
-outer = "pml"
-bottom = "pec"
-top = "pml"
-[[body]]
-shape = "sphere"
-radius = 4.7
-center = 0.0
-eps_r = 38.0
-[search]
-m = [0, 1]
-f_min = 4.5
-f_max = 7.25
-"#,
-    );
+    let hemi = hemisphere_on_pec(38.0, 4.7, 14.0, "0, 1", (4.5, 7.25));
     let study = run_study(&hemi).unwrap();
     let rs = radiation(&study, &hemi, &RadiationOptions::default())
         .unwrap()
@@ -230,30 +244,8 @@ fn a_strongly_damped_tm1_mode_radiates_as_a_dipole() {
     let (eps, a) = (9.7, 6.2e-3);
     let tm = sphere_mode(SphereFamily::Tm, 1, eps, a).unwrap();
     let te = sphere_mode(SphereFamily::Te, 1, eps, a).unwrap();
-    let text = format!(
-        r#"
-[region]
-radius = 18.6
-z_min = 0.0
-z_max = 18.6
-[boundary]
-outer = "pml"
-bottom = "pec"
-top = "pml"
-[[body]]
-shape = "sphere"
-radius = 6.2
-center = 0.0
-eps_r = {eps}
-[search]
-m = [0]
-f_min = {:.4}
-f_max = {:.4}
-"#,
-        0.8 * te.freq_hz / 1e9,
-        1.2 * tm.freq_hz / 1e9
-    );
-    let hemi = scenario(&text);
+    let band = (0.8 * te.freq_hz / 1e9, 1.2 * tm.freq_hz / 1e9);
+    let hemi = hemisphere_on_pec(eps, 6.2, 18.6, "0", band);
     let study = run_study(&hemi).unwrap();
     let rs = radiation(&study, &hemi, &RadiationOptions::default())
         .unwrap()
