@@ -157,17 +157,19 @@ pub struct RunPlan {
     pub mode_field_bytes: usize,
     /// Most running transforms the run keeps (within its memory budget).
     pub max_mode_fields: usize,
-    /// Ring-down samples whose fields are kept until the first (scout)
-    /// check, so that the transforms opened there start with the ring-down
-    /// (0 when they would not fit; see [`EARLY_MAX_BYTES`]).
+    /// Ring-down samples whose fields are kept, up to a scout check, so
+    /// that the transforms opened at the scouts start with the ring-down
+    /// (0 when not even the first scout's would fit; see
+    /// [`EARLY_MAX_BYTES`]).
     pub early_samples: usize,
     /// Those fields, bytes (part of [`RunPlan::memory_bytes`]).
     pub early_bytes: usize,
 }
 
-/// Most bytes a run spends on its early ring-down fields. With 32 samples
-/// that covers grids up to about 1.7 × 10⁵ cells; larger runs open their
-/// transforms at the first check, as before.
+/// Most bytes a run spends on its early ring-down fields: 32 samples of
+/// grids up to about 1.7 × 10⁵ cells, fewer samples of larger grids (down to
+/// the first scout's); beyond that the transforms open at the checks
+/// without them.
 pub const EARLY_MAX_BYTES: usize = 256 << 20;
 
 impl RunPlan {
@@ -253,16 +255,19 @@ pub fn plan(problem: &Problem, m: u32) -> Result<RunPlan, SolverError> {
         .min(crate::modefield::MAX_BYTES / mode_field_bytes.max(1))
         .max(1);
     let mut memory_bytes = base_bytes + max_mode_fields * mode_field_bytes;
-    // The fields at every sample up to the first scout check (six real
-    // arrays each), when they fit both their own cap and the run's.
-    let early = scouts(first_check).first().copied().unwrap_or(0);
-    let early_bytes = early * 8 * nodes;
-    let (early_samples, early_bytes) =
-        if early_bytes <= EARLY_MAX_BYTES && memory_bytes + early_bytes <= o.max_memory {
-            (early, early_bytes)
-        } else {
-            (0, 0)
-        };
+    // The fields at every sample up to the last scout check that fits both
+    // their own cap and the run's (six real arrays each): a wide band's
+    // first scout may find nothing yet.
+    let fits = |n: usize| {
+        let b = n * 8 * nodes;
+        b <= EARLY_MAX_BYTES && memory_bytes + b <= o.max_memory
+    };
+    let early_samples = scouts(first_check)
+        .into_iter()
+        .filter(|&n| fits(n))
+        .max()
+        .unwrap_or(0);
+    let early_bytes = early_samples * 8 * nodes;
     memory_bytes += early_bytes;
     if memory_bytes > o.max_memory {
         return Err(SolverError::TooMuchMemory {
