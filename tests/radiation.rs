@@ -17,10 +17,10 @@
 //!   practice, no single source. Our own dimensions (ε_r 20.5, radius
 //!   6.1 mm, height 4.3 mm, disk radius 15.3 mm).
 use lathe::radiation::{
-    cuts_csv, json, lower_space, radiation, table, Radiation, RadiationOptions,
+    cuts_csv, json, lower_space, radiation, table, Radiation, RadiationOptions, RadiationStudy,
 };
 use lathe::scenario::Scenario;
-use lathe::solver::exact::{sphere_mode, SphereFamily};
+use lathe::solver::exact::{sphere_mode, SphereFamily, SphereMode};
 use lathe::solver::farfield::{
     EnergyOptions, FarFieldOptions, LowerSpace, ModeData, Plane, Radiator, FLOOR_DB,
 };
@@ -228,6 +228,27 @@ fn n1_modes_of_hemisphere_and_sphere_radiate_as_dipoles() {
     }
 }
 
+/// Our own low-permittivity hemisphere (ε_r 9.7, radius 6.2 mm) on a PEC
+/// plane in an 18.6 mm region, solved at orders `m` over the band
+/// `scale.0` × its exact TE1 … `scale.1` × its exact TM1: the exact TE1 and
+/// TM1 modes and the radiation figures of every mode found.
+fn low_permittivity_hemisphere(
+    m: &str,
+    scale: (f64, f64),
+) -> (SphereMode, SphereMode, RadiationStudy) {
+    let (eps, a) = (9.7, 6.2e-3);
+    let tm = sphere_mode(SphereFamily::Tm, 1, eps, a).unwrap();
+    let te = sphere_mode(SphereFamily::Te, 1, eps, a).unwrap();
+    let band = (scale.0 * te.freq_hz / 1e9, scale.1 * tm.freq_hz / 1e9);
+    let hemi = hemisphere_on_pec(eps, 6.2, 18.6, m, band);
+    let study = run_study(&hemi).unwrap();
+    let rs = radiation(&study, &hemi, &RadiationOptions::default())
+        .unwrap()
+        .expect("an open structure");
+    eprint!("{}", table(&rs));
+    (te, tm, rs)
+}
+
 #[test]
 fn a_strongly_damped_tm1_mode_radiates_as_a_dipole() {
     // The TM1 mode of a low-permittivity hemisphere on a PEC plane (our own
@@ -241,16 +262,7 @@ fn a_strongly_damped_tm1_mode_radiates_as_a_dipole() {
     // +2.0 %. Asserted: the dipole tolerances of the module docs, and
     // stored-energy Q within 5 % of the exact Q (the ring-down Q is within
     // 1 % of it).
-    let (eps, a) = (9.7, 6.2e-3);
-    let tm = sphere_mode(SphereFamily::Tm, 1, eps, a).unwrap();
-    let te = sphere_mode(SphereFamily::Te, 1, eps, a).unwrap();
-    let band = (0.8 * te.freq_hz / 1e9, 1.2 * tm.freq_hz / 1e9);
-    let hemi = hemisphere_on_pec(eps, 6.2, 18.6, "0", band);
-    let study = run_study(&hemi).unwrap();
-    let rs = radiation(&study, &hemi, &RadiationOptions::default())
-        .unwrap()
-        .expect("an open structure");
-    eprint!("{}", table(&rs));
+    let (_, tm, rs) = low_permittivity_hemisphere("0", (0.8, 1.2));
     let r = rs
         .modes
         .iter()
@@ -296,16 +308,7 @@ fn a_wide_band_keeps_every_ringing_mode_s_field() {
     // stored-energy Q within 3 % of exact; every mode of Q ≥ 5 within 3 %
     // of its ring-down Q. The Q 1.6 mode rings for less than a period and
     // is not held to anything.
-    let (eps, a) = (9.7, 6.2e-3);
-    let tm = sphere_mode(SphereFamily::Tm, 1, eps, a).unwrap();
-    let te = sphere_mode(SphereFamily::Te, 1, eps, a).unwrap();
-    let band = (0.5 * te.freq_hz / 1e9, 2.0 * tm.freq_hz / 1e9);
-    let hemi = hemisphere_on_pec(eps, 6.2, 18.6, "1", band);
-    let study = run_study(&hemi).unwrap();
-    let rs = radiation(&study, &hemi, &RadiationOptions::default())
-        .unwrap()
-        .expect("an open structure");
-    eprint!("{}", table(&rs));
+    let (te, _, rs) = low_permittivity_hemisphere("1", (0.5, 2.0));
     assert!(rs.modes.len() >= 5, "{} modes", rs.modes.len());
     let r = rs
         .modes
