@@ -55,7 +55,7 @@ enum Command {
         /// Also an SVG of each field map.
         #[arg(long)]
         svg: bool,
-        /// Memory cap for the runs that step at once, e.g. 6G, 800M
+        /// Memory cap for the runs under way at once, e.g. 6G, 800M
         /// (binary units; a bare number is MiB). Default 4G.
         #[arg(long, value_name = "SIZE", value_parser = parse_size)]
         max_memory: Option<usize>,

@@ -184,7 +184,7 @@ fn surface_correction_name(
 /// The plan of every run of `scenario`, as text (what `lathe check`
 /// prints): per run the grid, absorber, walls, band, time step and its
 /// margin, pulse, sampling, length, sources and probes, memory; then the
-/// totals — cell updates at most, memory of the runs that step at once
+/// totals — cell updates at most, memory of the runs under way at once
 /// against the cap, and (when `measure` is set) a run-time estimate from
 /// this machine's stepping rate, timed for a fraction of a second on the
 /// largest run's own coefficients (scratch fields; nothing is solved).
@@ -193,7 +193,7 @@ pub fn plan_text(
     options: &crate::study::StudyOptions,
     measure: bool,
 ) -> Result<String, crate::study::StudyError> {
-    use crate::study::{concurrent_runs, problems, StudyError};
+    use crate::study::{concurrent_runs, problems, stepping_runs, StudyError};
     use std::fmt::Write;
     let mut s = String::new();
     crate::study::check_size(scenario, options)?;
@@ -249,7 +249,7 @@ pub fn plan_text(
     );
     let _ = writeln!(
         s,
-        "memory      at most {:.1} MiB for {} run(s) stepping at once; cap {:.0} MiB ({:.0} MiB per run; --max-memory)",
+        "memory      at most {:.1} MiB for {} run(s) under way at once; cap {:.0} MiB ({:.0} MiB per run; --max-memory)",
         mib(at_once),
         concurrent,
         mib(options.max_memory),
@@ -273,7 +273,8 @@ pub fn plan_text(
             // out of runs helps the others only at the end): time one
             // thread and count one per run stepping at once. A single run
             // splits its rows over the pool: time the pool.
-            let (rate, threads, runs_in_parallel) = if concurrent > 1 {
+            let stepping = stepping_runs(scenario);
+            let (rate, threads, runs_in_parallel) = if stepping > 1 {
                 let one = rayon::ThreadPoolBuilder::new().num_threads(1).build();
                 let rate = match one {
                     Ok(pool) => {
@@ -281,7 +282,7 @@ pub fn plan_text(
                     }
                     Err(_) => lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25),
                 };
-                (rate, 1, concurrent)
+                (rate, 1, stepping)
             } else {
                 let rate = lathe_solver::bench::step_rate(pr, p.m, p.dt, 0.25);
                 (rate, rayon::current_num_threads(), 1)

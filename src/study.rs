@@ -158,9 +158,9 @@ pub const DEFAULT_MAX_MEMORY: usize = 4 << 30;
 /// How a study is run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct StudyOptions {
-    /// Memory cap for all runs that may step at once, bytes. Each run gets
-    /// an equal share: the cap divided by the number of runs the thread
-    /// pool can step at the same time (threads, at most the run count).
+    /// Memory cap for all runs that may be under way at once, bytes. Each
+    /// run gets an equal share: the cap divided by the number of runs the
+    /// thread pool has under way at the same time ([`concurrent_runs`]).
     pub max_memory: usize,
 }
 
@@ -211,8 +211,17 @@ pub fn check_size(s: &Scenario, options: &StudyOptions) -> Result<(), StudyError
     Ok(())
 }
 
-/// How many runs of `s` step at the same time in the current thread pool.
+/// How many runs of `s` are under way at the same time in the current
+/// thread pool, each holding its arrays: one more than the threads when
+/// there are more runs than threads, which take turns on them
+/// ([`lathe_solver::run::runs_under_way`]).
 pub fn concurrent_runs(s: &Scenario) -> usize {
+    lathe_solver::run::runs_under_way(run_count(s))
+}
+
+/// How many runs of `s` step at the same instant: one per thread, at most
+/// the run count.
+pub fn stepping_runs(s: &Scenario) -> usize {
     rayon::current_num_threads().min(run_count(s)).max(1)
 }
 

@@ -139,3 +139,40 @@ fn radiation_figures_do_not_depend_on_the_threads() {
     assert_eq!(one, figures(2));
     assert_eq!(one, figures(3));
 }
+
+/// More runs than threads: the threads take turns on them, each run
+/// handing its thread on at every probe sample here (a stretch of one cell
+/// update), and the last run's rows are split. The bits must be those of
+/// one thread stepping each run from start to end.
+#[test]
+fn runs_taking_turns_give_the_bits_of_one_thread() {
+    let s = Scenario::parse(PUCK, "puck").unwrap();
+    let mut problem = s.problem().unwrap();
+    problem.options.row_parallel_cells = 0;
+    problem.options.stretch_cell_updates = 1;
+    let run_with = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| solve(&problem, &s.m).unwrap())
+    };
+    let one = run_with(1);
+    assert!(
+        one.iter().all(|r| r.report.stretches == 1),
+        "one thread keeps each run to its end"
+    );
+    let two = run_with(2);
+    let turns: usize = two.iter().map(|r| r.report.stretches - 1).sum();
+    assert!(
+        turns >= 10,
+        "three runs on two threads took only {turns} turns"
+    );
+    for (a, b) in one.iter().zip(&two) {
+        assert_eq!(a.modes, b.modes, "m = {}", a.report.m);
+        assert_eq!(a.report.steps, b.report.steps);
+        assert!(a.signals == b.signals);
+        assert!(a.fields == b.fields);
+        assert!(a.mode_fields == b.mode_fields, "m = {}", a.report.m);
+    }
+}

@@ -5,10 +5,11 @@
 //!    benchmark cylinder (common::benchmark_half, PMC mid-plane, absorbers on
 //!    the outer radius and the top, 95 × 95 cells): the whole of `solve` —
 //!    plans, stepping, harmonic inversion, mode fields, labels — timed in a
-//!    1-thread and in a 2-thread rayon pool, in interleaved rounds. Also
+//!    1-thread and in a 2-thread rayon pool, in interleaved rounds. The
+//!    three runs take turns on the two threads (`solve`'s default). Also
 //!    timed: 2 threads with the row split switched off
-//!    (`row_parallel_cells = usize::MAX`), which is the best a one-run-per-
-//!    thread schedule can do. Target: 2 threads ≤ 0.56 × 1 thread.
+//!    (`row_parallel_cells = usize::MAX`), where the last run steps alone.
+//!    Target: 2 threads ≤ 0.56 × 1 thread.
 //! 2. A single order on a large grid (1000 × 1000 cells, m = 1, a puck in an
 //!    open region with 16-cell absorbers on the outer radius and the top):
 //!    the full step's rate (`lathe_solver::bench::step_rate`) on 1 and on 2

@@ -59,13 +59,19 @@ pub struct RunOptions {
     /// Probe points. Default 5 (each reads all six components).
     pub probes: usize,
     /// In a pool of more than one thread, grids of at least this many cells
-    /// split each half step's rows into blocks that any thread of the pool
-    /// may take (rayon work stealing). While every thread steps a run of
-    /// its own, the blocks run where they were made, for a few joins per
-    /// step; when a thread runs out of runs it takes blocks of the others,
-    /// so the last run of a study, or a study of one run, keeps every core
-    /// busy. Results are bitwise identical either way. Default 4 096.
+    /// split each half step's rows into blocks of equal cost, one per
+    /// member of the run's stepping team ([`crate::team`]): its own thread
+    /// and every thread that has run out of runs, so the last run of a
+    /// study, or a study of one run, keeps every core busy. Results are
+    /// bitwise identical either way. Default 4 096.
     pub row_parallel_cells: usize,
+    /// When a study has more runs than threads, the threads take turns:
+    /// a run that has stepped this many cell updates since it took its
+    /// thread hands it, at its next probe sample, to a run that is waiting
+    /// (see [`crate::run::solve_each_with`]). Default 2²³ (about 25 ms at
+    /// 3 × 10⁸ cell updates/s). Results are bitwise identical for any
+    /// value.
+    pub stretch_cell_updates: usize,
     /// Memory cap per run, bytes. Default 4 GiB.
     pub max_memory: usize,
     /// Most mode fields (running transforms) a run keeps, default 48; the
@@ -104,6 +110,7 @@ impl Default for RunOptions {
             sources: 3,
             probes: 5,
             row_parallel_cells: 4096,
+            stretch_cell_updates: 1 << 23,
             max_memory: 4 << 30,
             max_mode_fields: 48,
             axis_rod: true,

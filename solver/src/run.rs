@@ -60,8 +60,13 @@ pub struct RunReport {
     pub steps: usize,
     /// Cells × steps.
     pub cell_updates: u64,
-    /// Wall time of the run including harmonic inversion, s.
+    /// Time a thread spent on the run (its stretches, summed), harmonic
+    /// inversion included, s.
     pub seconds: f64,
+    /// Stretches the run was stepped in: 1 when it kept one thread to the
+    /// end, more when it took turns with other runs (see
+    /// [`crate::RunOptions::stretch_cell_updates`]).
+    pub stretches: usize,
     /// Probe samples recorded after the pulse.
     pub samples: usize,
     /// Sample spacing, s.
@@ -129,9 +134,10 @@ pub fn solve_with(
 }
 
 /// Plans and runs every order of `ms` of each of `problems` (e.g. the two
-/// symmetry halves of one structure) together, all runs sharing the pool,
-/// and returns each problem's runs in the order of `ms`,
-/// unlabelled. The first failing plan or run (problems in order, then
+/// symmetry halves of one structure) together, all runs sharing the pool
+/// (longest first; with more runs than threads, the threads take turns on
+/// them, [`runs_under_way`] at a time), and returns each problem's runs in
+/// the order of `ms`, unlabelled. The first failing plan or run (problems in order, then
 /// orders) is returned.
 pub fn solve_each_with(
     problems: &[&Problem],
@@ -170,28 +176,51 @@ pub fn solve_each_with(
     Ok(out)
 }
 
+/// How many of `runs` runs [`solve_each_with`] has under way at once in the
+/// current rayon pool (stepping, or waiting for their turn): one more than
+/// the threads when there are more runs than threads, and one on a single
+/// thread (handing one thread round would only reload its caches). Each
+/// holds its arrays meanwhile, so memory caps divide by this.
+pub fn runs_under_way(runs: usize) -> usize {
+    let threads = rayon::current_num_threads();
+    let live = if threads > 1 { threads + 1 } else { 1 };
+    live.min(runs).max(1)
+}
+
 /// Runs every (problem, plan) of `runs` on the threads of the current
 /// rayon pool and returns the results in the order of `runs`.
 ///
-/// One worker per thread ([`rayon::broadcast`]) takes the next run from a
-/// shared list, longest first: the rest then fill in around it, and the
-/// last to finish is a short one. Runs of one problem share the grid and
-/// ring for about the same time, so the cell updates of a step, ∝ cells/Δt,
-/// rank them. A worker that finds none left while a run that splits by row
-/// ([`crate::RunOptions::row_parallel_cells`]) is still stepping joins that
-/// run's [`Team`] (the one with the fewest helpers) and steps a block of its
-/// rows at every half step until it ends, so the last run, or a single one,
-/// also uses every core. Which thread steps which rows never changes a bit.
+/// One worker per thread ([`rayon::broadcast`]) takes runs from a shared
+/// list, longest first (runs of one problem share the grid and ring for
+/// about the same time, so the cell updates of a step, ∝ cells/Δt, rank
+/// them). **The threads are shared in turn:** up to one run more than
+/// there are threads is under way at a time, and a run that has stepped
+/// [`crate::RunOptions::stretch_cell_updates`] since it last took a
+/// thread hands it, at its next probe sample, to a run that is waiting
+/// (the one that has waited longest, else the next new one), and waits in
+/// its turn (a stretch's
+/// start reloads the run's arrays into the core's caches, some 0.1 ms for
+/// a grid of 10⁴ cells against the default stretch's 25 ms). So three runs
+/// of equal length on two threads all end at about 1.5 run lengths, where
+/// one run per thread to its end would end at 2 (or at 1 + 1/1.6 with the
+/// last one's rows split). When no run is waiting and none is left, a
+/// worker joins the [`Team`] of a run that splits by row
+/// ([`crate::RunOptions::row_parallel_cells`]; the one with the fewest
+/// helpers) and steps a block of its rows at every half step until it
+/// ends, so the last run, or a single one, also uses every core. Once no
+/// run waits and no new one is left, none is ever handed on again, so a
+/// run with helpers keeps its thread. Which thread steps which
+/// stretch or rows never changes a bit.
 fn run_all(
     runs: &[(&Problem, &RunPlan)],
     progress: &dyn Progress,
 ) -> Vec<Result<RunOutput, SolverError>> {
-    use std::sync::atomic::{AtomicUsize, Ordering};
+    use std::collections::VecDeque;
+    use std::sync::atomic::Ordering;
     use std::sync::Mutex;
     let mut order: Vec<usize> = (0..runs.len()).collect();
     let weight = |k: usize| runs[k].0.materials.grid.cells() as f64 / runs[k].1.dt;
     order.sort_by(|&a, &b| weight(b).total_cmp(&weight(a)));
-    let next = AtomicUsize::new(0);
     let teams: Vec<Team> = runs.iter().map(|_| Team::new()).collect();
     let started: Vec<AtomicBool> = runs.iter().map(|_| AtomicBool::new(false)).collect();
     let slots: Vec<Mutex<Option<Result<RunOutput, SolverError>>>> =
@@ -201,28 +230,105 @@ fn run_all(
         problem.options.splits_rows(problem.materials.grid.cells())
     };
     let help = (0..runs.len()).any(splits);
+    let threads = rayon::current_num_threads();
+    let most_live = runs_under_way(usize::MAX);
+    // The runs waiting for a thread, the next new run (in `order`) and the
+    // runs under way (waiting or stepping), under one lock.
+    struct Turns<'a> {
+        waiting: VecDeque<(usize, Box<Ring<'a>>)>,
+        next: usize,
+        live: usize,
+    }
+    let turns = Mutex::new(Turns {
+        waiting: VecDeque::new(),
+        next: 0,
+        live: 0,
+    });
+    let lock = || turns.lock().unwrap_or_else(|e| e.into_inner());
+    // What a thread takes up: the run that has waited longest, else the
+    // next new one (`None` in place of its ring).
+    fn take_up<'r>(t: &mut Turns<'r>, order: &[usize]) -> Option<(usize, Option<Box<Ring<'r>>>)> {
+        if let Some((k, ring)) = t.waiting.pop_front() {
+            return Some((k, Some(ring)));
+        }
+        let &k = order.get(t.next)?;
+        t.next += 1;
+        t.live += 1;
+        Some((k, None))
+    }
     let worker = || {
-        loop {
-            let n = next.fetch_add(1, Ordering::Relaxed);
-            let Some(&k) = order.get(n) else { break };
+        // A thread inside a run of its own (one that took this worker while
+        // it waited in that run's harmonic inversion) steps what it takes
+        // to the end, and must then go back to its own run.
+        let nested = crate::team::owning();
+        let mut turn = take_up(&mut lock(), &order);
+        while let Some((k, ring)) = turn.take() {
             let (problem, plan) = runs[k];
             let team = splits(k).then_some(&teams[k]);
-            started[k].store(true, Ordering::Release);
-            // Closes the team even if the run panics, so that no helper
-            // spins on (the panic then reaches the caller through the
-            // broadcast).
-            let _closing = Closing(&teams[k]);
-            let r = crate::fpu::with_gradual_underflow(|| run_in(problem, plan, progress, team));
-            *slots[k].lock().unwrap_or_else(|e| e.into_inner()) = Some(r);
+            // Closes the team when the run ends, even by a panic, so that
+            // no helper spins on (the panic then reaches the caller through
+            // the broadcast); not when the run only waits.
+            let mut closing = Closing(&teams[k], true);
+            let stretch = if nested || threads == 1 {
+                usize::MAX
+            } else {
+                (problem.options.stretch_cell_updates / problem.materials.grid.cells()).max(1)
+            };
+            let stepped = crate::fpu::with_gradual_underflow(|| {
+                let _owning = crate::team::Owning::new();
+                let _ftz = FlushSubnormals::new();
+                let mut ring = match ring {
+                    Some(mut ring) => {
+                        ring.resume();
+                        ring
+                    }
+                    None => {
+                        started[k].store(true, Ordering::Release);
+                        Box::new(Ring::start(problem, plan, progress, team)?)
+                    }
+                };
+                if ring.advance(stretch)? {
+                    ring.finish().map(Ok)
+                } else {
+                    ring.pause();
+                    Ok(Err(ring))
+                }
+            });
+            let done = match stepped {
+                Ok(Err(ring)) => {
+                    closing.1 = false;
+                    let mut t = lock();
+                    let other = if let Some((j, r)) = t.waiting.pop_front() {
+                        Some((j, Some(r)))
+                    } else if t.live < most_live && t.next < order.len() {
+                        take_up(&mut t, &order)
+                    } else {
+                        None
+                    };
+                    turn = match other {
+                        Some(other) => {
+                            t.waiting.push_back((k, ring));
+                            Some(other)
+                        }
+                        None => Some((k, Some(ring))),
+                    };
+                    continue;
+                }
+                Ok(Ok(out)) => Ok(out),
+                Err(e) => Err(e),
+            };
+            *slots[k].lock().unwrap_or_else(|e| e.into_inner()) = Some(done);
+            drop(closing);
+            let mut t = lock();
+            t.live -= 1;
+            turn = take_up(&mut t, &order);
         }
-        // A thread inside a run of its own (one that took this worker while
-        // it waited in that run's harmonic inversion) must go back to it.
-        if !help || crate::team::owning() {
+        if !help || nested {
             return;
         }
-        // Every run has been taken: help those that split by row until
-        // their teams close (a run taken but not yet started is waited
-        // for; one that does not split needs no help).
+        // Every run has been taken and none waits: help those that split
+        // by row until their teams close (a run taken but not yet started
+        // is waited for; one that does not split needs no help).
         let mut idle = crate::team::Backoff::default();
         while (0..runs.len()).any(|k| splits(k) && !teams[k].is_closed()) {
             let open = (0..runs.len())
@@ -255,12 +361,14 @@ fn run_all(
         .collect()
 }
 
-/// On drop: closes a run's team.
-struct Closing<'a>(&'a Team);
+/// On drop: closes a run's team, if armed (the run has ended).
+struct Closing<'a>(&'a Team, bool);
 
 impl Drop for Closing<'_> {
     fn drop(&mut self) {
-        self.0.close();
+        if self.1 {
+            self.0.close();
+        }
     }
 }
 
@@ -326,7 +434,8 @@ pub fn run_with(
 }
 
 /// [`run_with`] stepping with `team` (rows split over it when the grid
-/// splits by row; `None`: on this thread alone).
+/// splits by row; `None`: on this thread alone), on this thread from start
+/// to end.
 fn run_in(
     problem: &Problem,
     plan: &RunPlan,
@@ -335,32 +444,181 @@ fn run_in(
 ) -> Result<RunOutput, SolverError> {
     let _owning = crate::team::Owning::new();
     let _ftz = FlushSubnormals::new();
-    let start = Instant::now();
-    let m = plan.m;
-    progress.started(m, planned_cell_updates(problem, plan));
-    let map = &problem.materials;
-    let g = &map.grid;
-    let mut coeffs = Coefficients::with_axis_rod(map, &problem.walls, m, plan.dt, plan.axis_rod);
-    coeffs.row_parallel = problem.options.splits_rows(g.cells());
-    let mut f = Fields::zeros(g);
-    let mut pml = Pml::new(g, &problem.walls, plan.dt);
-    let table: Vec<f64> = (0..plan.source_steps)
-        .map(|n| plan.pulse.current((n as f64 + 0.5) * plan.dt))
-        .collect();
-    let mut signals: Vec<Vec<f64>> = plan
-        .probes
-        .iter()
-        .map(|_| Vec::with_capacity(plan.max_samples))
-        .collect();
-    let energy_w = EnergyWeights::new(&coeffs, g);
-    let mut step = 0usize;
-    let guard = |f: &Fields, step: usize, reference: f64| -> Result<f64, SolverError> {
-        let e = energy_w.energy(f);
-        let time_s = step as f64 * plan.dt;
+    let mut ring = Ring::start(problem, plan, progress, team)?;
+    while !ring.advance(usize::MAX)? {}
+    ring.finish()
+}
+
+/// The frequency a mode rings at on the grid of time step `dt` (before the
+/// leapfrog correction of `modes`), where its running transform must be
+/// taken.
+fn sampled(md: &Mode, dt: f64) -> f64 {
+    let w = 2.0 * std::f64::consts::PI * md.freq_hz;
+    2.0 * (w * dt / 2.0).min(1.0).asin() / (2.0 * std::f64::consts::PI * dt)
+}
+
+/// Whether transform `a` matches mode `md`: within its half bandwidth
+/// (1/2Q), at least 1e-4 — scouts see the frequency roughly, which is
+/// enough over the few periods a damped mode rings.
+fn matches(a: &Accumulator, md: &Mode, dt: f64) -> bool {
+    let tol = (0.5 / md.q.max(1.0)).max(1e-4);
+    a.samples() > 0 && (a.freq_hz / sampled(md, dt) - 1.0).abs() < tol
+}
+
+/// One run in progress: everything its time loop carries from one step to
+/// the next, so that it can stop at a probe sample and go on later, on
+/// this thread or another ([`run_all`] shares the threads among more runs
+/// than there are threads this way). [`Ring::start`] plans the arrays and
+/// steps the pulse, [`Ring::advance`] steps the ring-down in stretches and
+/// makes its checks, [`Ring::finish`] builds the modes' fields. The bits do
+/// not depend on where the stretches end: each step and each check is the
+/// same expression in the same floating-point mode (flush-to-zero while
+/// stepping, set by the caller of every stretch; gradual underflow inside
+/// harmonic inversion).
+struct Ring<'a> {
+    problem: &'a Problem,
+    plan: &'a RunPlan,
+    progress: &'a dyn Progress,
+    team: Option<&'a Team>,
+    coeffs: Coefficients,
+    f: Fields,
+    pml: Option<Pml>,
+    energy_w: EnergyWeights,
+    signals: Vec<Vec<f64>>,
+    step: usize,
+    /// Cell updates between two progress reports.
+    chunk: u64,
+    peak_energy: f64,
+    /// The energy when the pulse ended: the growth guard's reference.
+    reference: f64,
+    /// The largest probe value while the pulse drives the fields: the
+    /// scale of the run's round-off (see `invert`'s noise floor).
+    drive_peak: f64,
+    accs: Vec<Accumulator>,
+    previous: Option<Vec<Mode>>,
+    modes: Vec<Mode>,
+    checks: usize,
+    converged: bool,
+    /// The fields at every sample up to a scout (`plan.early_samples`),
+    /// kept (in arrays allocated before the ring-down) so that the
+    /// transforms opened at the scouts start with the ring-down itself: a
+    /// mode of Q 4 has decayed to e^{−5} by a first scout 32 samples in,
+    /// and its transform from there on is swamped by what the demixing
+    /// cannot remove (measured: DEVELOPERS.md, "Mode fields and the noise
+    /// floor").
+    early: Vec<Fields>,
+    early_t: Vec<f64>,
+    /// Sample counts at which the signals are inverted, and whether each
+    /// is a scout (scout checks early in the ring-down only open running
+    /// transforms, so that strongly damped modes are transformed while
+    /// they still ring).
+    schedule: Vec<(usize, bool)>,
+    /// The next entry of `schedule`.
+    next: usize,
+    /// Whether the energy has decayed to round-off since the last check.
+    decayed: bool,
+    /// Time spent on this run so far, s, and when its present stretch
+    /// began.
+    busy: f64,
+    since: Instant,
+    /// Stretches so far (the present one included).
+    stretches: usize,
+}
+
+impl<'a> Ring<'a> {
+    /// Allocates the run's arrays and steps the pulse.
+    fn start(
+        problem: &'a Problem,
+        plan: &'a RunPlan,
+        progress: &'a dyn Progress,
+        team: Option<&'a Team>,
+    ) -> Result<Ring<'a>, SolverError> {
+        let since = Instant::now();
+        let m = plan.m;
+        progress.started(m, planned_cell_updates(problem, plan));
+        let map = &problem.materials;
+        let g = &map.grid;
+        let mut coeffs =
+            Coefficients::with_axis_rod(map, &problem.walls, m, plan.dt, plan.axis_rod);
+        coeffs.row_parallel = problem.options.splits_rows(g.cells());
+        let energy_w = EnergyWeights::new(&coeffs, g);
+        let schedule: Vec<(usize, bool)> = plan
+            .scouts()
+            .iter()
+            .map(|&n| (n, true))
+            .chain(plan.checks().into_iter().map(|n| (n, false)))
+            .collect();
+        let mut ring = Ring {
+            problem,
+            plan,
+            progress,
+            team,
+            f: Fields::zeros(g),
+            pml: Pml::new(g, &problem.walls, plan.dt),
+            energy_w,
+            coeffs,
+            signals: plan
+                .probes
+                .iter()
+                .map(|_| Vec::with_capacity(plan.max_samples))
+                .collect(),
+            step: 0,
+            chunk: 64 * g.cells() as u64,
+            peak_energy: 0.0,
+            reference: 0.0,
+            drive_peak: 0.0,
+            accs: Vec::new(),
+            previous: None,
+            modes: Vec::new(),
+            checks: 0,
+            converged: false,
+            early: (0..plan.early_samples).map(|_| Fields::zeros(g)).collect(),
+            early_t: Vec::with_capacity(plan.early_samples),
+            schedule,
+            next: 0,
+            decayed: false,
+            busy: 0.0,
+            since,
+            stretches: 1,
+        };
+        let table: Vec<f64> = (0..plan.source_steps)
+            .map(|n| plan.pulse.current((n as f64 + 0.5) * plan.dt))
+            .collect();
+        for &s in &table {
+            ring.steps(1);
+            inject(&mut ring.f, &ring.coeffs, &plan.sources, s);
+            ring.step += 1;
+            if ring.step % plan.decimation == 0 {
+                for p in &plan.probes {
+                    ring.drive_peak = ring.drive_peak.max(read(&ring.f, p).abs());
+                }
+            }
+            if ring.step % 64 == 0 {
+                ring.peak_energy = ring.peak_energy.max(ring.guard(0.0)?);
+                progress.advance(m, ring.chunk);
+            }
+        }
+        ring.reference = ring.guard(0.0)?;
+        ring.peak_energy = ring.peak_energy.max(ring.reference);
+        Ok(ring)
+    }
+
+    /// `n` full steps (the fused step, same bits as whole passes; see
+    /// `kernel::step`).
+    fn steps(&mut self, n: usize) {
+        crate::kernel::steps_on(&mut self.f, &self.coeffs, self.pml.as_mut(), self.team, n);
+    }
+
+    /// The field energy, or the error of a non-finite one or of one above
+    /// `growth_limit` × `reference` (when that is positive).
+    fn guard(&self, reference: f64) -> Result<f64, SolverError> {
+        let e = self.energy_w.energy(&self.f);
+        let (m, step) = (self.plan.m, self.step);
+        let time_s = step as f64 * self.plan.dt;
         if !e.is_finite() {
             return Err(SolverError::NonFinite { m, step, time_s });
         }
-        if reference > 0.0 && e > problem.options.growth_limit * reference {
+        if reference > 0.0 && e > self.problem.options.growth_limit * reference {
             return Err(SolverError::Unstable {
                 m,
                 step,
@@ -369,101 +627,85 @@ fn run_in(
             });
         }
         Ok(e)
-    };
-    // The fused full step (same bits as whole passes; see `kernel::step`).
-    let mut steps =
-        |f: &mut Fields, n: usize| crate::kernel::steps_on(f, &coeffs, pml.as_mut(), team, n);
-    let mut peak_energy: f64 = 0.0;
-    // Cell updates between two progress reports.
-    let chunk = 64 * g.cells() as u64;
-    // The largest probe value while the pulse drives the fields: the scale
-    // of the run's round-off (see `invert`'s noise floor).
-    let mut drive_peak: f64 = 0.0;
-    for &s in &table {
-        steps(&mut f, 1);
-        inject(&mut f, &coeffs, &plan.sources, s);
-        step += 1;
-        if step % plan.decimation == 0 {
-            for p in &plan.probes {
-                drive_peak = drive_peak.max(read(&f, p).abs());
-            }
-        }
-        if step % 64 == 0 {
-            peak_energy = peak_energy.max(guard(&f, step, 0.0)?);
-            progress.advance(m, chunk);
-        }
     }
-    let reference = guard(&f, step, 0.0)?;
-    peak_energy = peak_energy.max(reference);
-    let mut accs: Vec<Accumulator> = Vec::new();
-    let acc_cap = plan.max_mode_fields;
-    // The frequency a mode rings at on the grid (before the leapfrog
-    // correction of `modes`), where its running transform must be taken.
-    let sampled = |m: &Mode| {
-        let w = 2.0 * std::f64::consts::PI * m.freq_hz;
-        2.0 * (w * plan.dt / 2.0).min(1.0).asin() / (2.0 * std::f64::consts::PI * plan.dt)
-    };
-    let mut previous: Option<Vec<Mode>> = None;
-    let mut modes = Vec::new();
-    let mut checks = 0;
-    let mut converged = false;
-    // Scout checks early in the ring-down only open running transforms, so
-    // that strongly damped modes are transformed while they still ring.
-    let scouts = plan.scouts();
-    // The fields at every sample up to a scout (`plan.early_samples`),
-    // kept (in arrays allocated here, before the ring-down) so that the
-    // transforms opened at the scouts start with the ring-down itself: a
-    // mode of Q 4 has decayed to e^{−5} by a first scout 32 samples in, and
-    // its transform from there on is swamped by what the demixing cannot
-    // remove (measured: DEVELOPERS.md, "Mode fields and the noise floor").
-    let mut early: Vec<Fields> = (0..plan.early_samples).map(|_| Fields::zeros(g)).collect();
-    let mut early_t: Vec<f64> = Vec::with_capacity(plan.early_samples);
-    let schedule: Vec<(usize, bool)> = scouts
-        .iter()
-        .map(|&n| (n, true))
-        .chain(plan.checks().into_iter().map(|n| (n, false)))
-        .collect();
-    for (target, scout) in schedule {
-        let mut decayed = false;
-        while signals[0].len() < target {
-            // The steps to the next sample, in stretches that end where
-            // the energy is checked (every 64 steps).
-            let mut left = plan.decimation;
-            while left > 0 {
-                let n = left.min(64 - step % 64);
-                steps(&mut f, n);
-                step += n;
-                left -= n;
-                if step % 64 == 0 {
-                    let e = guard(&f, step, reference)?;
-                    decayed |= e < 1e-28 * peak_energy;
-                    progress.advance(m, chunk);
+
+    /// Marks the start of a stretch on some thread (for the run's time).
+    fn resume(&mut self) {
+        self.since = Instant::now();
+        self.stretches += 1;
+    }
+
+    /// Marks the end of a stretch.
+    fn pause(&mut self) {
+        self.busy += self.since.elapsed().as_secs_f64();
+    }
+
+    /// Steps the ring-down and makes its checks until the run has stopped
+    /// (true) or, at the first probe sample at least `budget` steps on,
+    /// pauses (false).
+    fn advance(&mut self, budget: usize) -> Result<bool, SolverError> {
+        let plan = self.plan;
+        let m = plan.m;
+        let stop_at = self.step.saturating_add(budget);
+        while let Some(&(target, scout)) = self.schedule.get(self.next) {
+            while self.signals[0].len() < target {
+                if self.step >= stop_at {
+                    return Ok(false);
+                }
+                // The steps to the next sample, in stretches that end where
+                // the energy is checked (every 64 steps).
+                let mut left = plan.decimation;
+                while left > 0 {
+                    let n = left.min(64 - self.step % 64);
+                    self.steps(n);
+                    self.step += n;
+                    left -= n;
+                    if self.step % 64 == 0 {
+                        let e = self.guard(self.reference)?;
+                        self.decayed |= e < 1e-28 * self.peak_energy;
+                        self.progress.advance(m, self.chunk);
+                    }
+                }
+                for (sig, p) in self.signals.iter_mut().zip(&plan.probes) {
+                    sig.push(read(&self.f, p));
+                }
+                let t = self.step as f64 * plan.dt;
+                for a in self.accs.iter_mut() {
+                    a.add(&self.f, t, plan.dt);
+                }
+                if let Some(e) = self.early.get_mut(self.early_t.len()) {
+                    e.copy_from(&self.f);
+                    self.early_t.push(t);
                 }
             }
-            for (sig, p) in signals.iter_mut().zip(&plan.probes) {
-                sig.push(read(&f, p));
-            }
-            let t = step as f64 * plan.dt;
-            for a in accs.iter_mut() {
-                a.add(&f, t, plan.dt);
-            }
-            if let Some(e) = early.get_mut(early_t.len()) {
-                e.copy_from(&f);
-                early_t.push(t);
+            self.next += 1;
+            let decayed = std::mem::take(&mut self.decayed);
+            if self.check(scout)? || decayed && !scout {
+                self.converged = true;
+                return Ok(true);
             }
         }
+        Ok(true)
+    }
+
+    /// One check at the present sample: harmonic inversion, transforms
+    /// opened for modes new to it (and, at a full check, those matching
+    /// none dropped). Returns whether a full check's modes agree with the
+    /// previous check's (the stopping rule).
+    fn check(&mut self, scout: bool) -> Result<bool, SolverError> {
+        let (plan, problem) = (self.plan, self.problem);
         if !scout {
-            checks += 1;
+            self.checks += 1;
         }
         let families: Vec<_> = plan.probes.iter().map(|p| p.family).collect();
         let found = crate::fpu::with_gradual_underflow(|| {
             invert(
-                &signals,
-                drive_peak,
+                &self.signals,
+                self.drive_peak,
                 &families,
                 plan.sample_dt,
                 plan.dt,
-                m,
+                plan.m,
                 plan.f_min,
                 plan.f_max,
                 &problem.options.fdm,
@@ -471,172 +713,178 @@ fn run_in(
         })?;
         // While every sample so far is kept, a new transform takes them
         // all, from the first of the ring-down.
-        let replay = !early_t.is_empty() && early_t.len() == signals[0].len();
+        let replay = !self.early_t.is_empty() && self.early_t.len() == self.signals[0].len();
         for md in &found {
-            let fs = sampled(md);
-            let known = accs.iter().any(|a| (a.freq_hz / fs - 1.0).abs() < 1e-5);
-            if !known && accs.len() < acc_cap {
-                let mut a = Accumulator::new(fs, &f);
+            let fs = sampled(md, plan.dt);
+            let known = self
+                .accs
+                .iter()
+                .any(|a| (a.freq_hz / fs - 1.0).abs() < 1e-5);
+            if !known && self.accs.len() < plan.max_mode_fields {
+                let mut a = Accumulator::new(fs, &self.f);
                 if replay {
-                    for (e, &t) in early.iter().zip(&early_t) {
+                    for (e, &t) in self.early.iter().zip(&self.early_t) {
                         a.add(e, t, plan.dt);
                     }
                 }
-                accs.push(a);
+                self.accs.push(a);
             }
         }
-        if !early.is_empty() && early_t.len() == early.len() {
+        if !self.early.is_empty() && self.early_t.len() == self.early.len() {
             // All kept: the early fields are of no more use.
-            early = Vec::new();
-            early_t = Vec::new();
-        }
-        if !scout {
-            // A transform that matches none of the modes found (a scout's
-            // fit that did not survive) is dropped: it would cost work at
-            // every sample for nothing.
-            accs.retain(|a| {
-                found.iter().any(|md| {
-                    let tol = (0.5 / md.q.max(1.0)).max(1e-4);
-                    (a.freq_hz / sampled(md) - 1.0).abs() < tol
-                })
-            });
+            self.early = Vec::new();
+            self.early_t = Vec::new();
         }
         if scout {
-            continue;
+            return Ok(false);
         }
-        let agree = previous.as_ref().is_some_and(|p| same_modes(p, &found));
-        modes = found;
-        if agree {
-            converged = true;
-            break;
+        // A transform that matches none of the modes found (a scout's fit
+        // that did not survive) is dropped: it would cost work at every
+        // sample for nothing.
+        self.accs.retain(|a| {
+            found.iter().any(|md| {
+                let tol = (0.5 / md.q.max(1.0)).max(1e-4);
+                (a.freq_hz / sampled(md, plan.dt) - 1.0).abs() < tol
+            })
+        });
+        let agree = self
+            .previous
+            .as_ref()
+            .is_some_and(|p| same_modes(p, &found));
+        self.modes = found;
+        if !agree {
+            self.previous = Some(self.modes.clone());
         }
-        if decayed {
-            converged = true;
-            break;
-        }
-        previous = Some(modes.clone());
+        Ok(agree)
     }
-    // Modes first seen at the last check have had no transform yet: ring on
-    // for a short stretch (a quarter of the first check's length) so each
-    // gets one. These steps are counted like any other.
-    // A transform matches a mode within its half bandwidth (1/2Q), at least
-    // 1e-4: scouts see the frequency roughly, which is enough over the few
-    // periods a damped mode rings.
-    let matches = |a: &Accumulator, md: &Mode| {
-        let tol = (0.5 / md.q.max(1.0)).max(1e-4);
-        a.samples() > 0 && (a.freq_hz / sampled(md) - 1.0).abs() < tol
-    };
-    let missing = modes.iter().any(|md| !accs.iter().any(|a| matches(a, md)));
-    if missing {
-        for md in &modes {
-            if !accs.iter().any(|a| matches(a, md)) {
-                accs.push(Accumulator::new(sampled(md), &f));
+
+    /// Rings on briefly for modes that have no transform yet, separates
+    /// the modes' fields and reports the run.
+    fn finish(mut self) -> Result<RunOutput, SolverError> {
+        let plan = self.plan;
+        let dt = plan.dt;
+        let m = plan.m;
+        let g = &self.problem.materials.grid;
+        // Modes first seen at the last check have had no transform yet: ring
+        // on for a short stretch (a quarter of the first check's length) so
+        // each gets one. These steps are counted like any other.
+        let modes = std::mem::take(&mut self.modes);
+        let missing = modes
+            .iter()
+            .any(|md| !self.accs.iter().any(|a| matches(a, md, dt)));
+        if missing {
+            for md in &modes {
+                if !self.accs.iter().any(|a| matches(a, md, dt)) {
+                    self.accs.push(Accumulator::new(sampled(md, dt), &self.f));
+                }
+            }
+            let extra = (plan.first_check / 4).max(16);
+            for _ in 0..extra {
+                self.steps(plan.decimation);
+                self.step += plan.decimation;
+                let t = self.step as f64 * dt;
+                for a in self.accs.iter_mut() {
+                    a.add(&self.f, t, dt);
+                }
             }
         }
-        let extra = (plan.first_check / 4).max(16);
-        for _ in 0..extra {
-            steps(&mut f, plan.decimation);
-            step += plan.decimation;
-            let t = step as f64 * plan.dt;
-            for a in accs.iter_mut() {
-                a.add(&f, t, plan.dt);
+        let accs = &self.accs;
+        // Each mode's transform (the longest that matches it, each used
+        // once), then the modes separated from one another
+        // (modefield::demix). The modes choose in order of decreasing Q: a
+        // strongly damped mode's match is wide (its half bandwidth), and
+        // chosen first it could take the transform of a sharp mode nearby,
+        // which would then be missing from the separation and, ringing on,
+        // leak into every other mode's field. Measured on a hemisphere
+        // searched over a wide band, with its transforms opened late (the
+        // early fields kept to the first scout only): a Q 1.6 mode at
+        // 17.1 GHz took a Q 1900 mode's transform at 20.3 GHz, and TE1's
+        // stored-energy Q came out 2126 against 9.15; with the sharp modes
+        // choosing first, 145 (and 9.05 once the early fields reach the
+        // second scout: tests/radiation.rs,
+        // `a_wide_band_keeps_every_ringing_mode_s_field`).
+        let mut used = vec![false; accs.len()];
+        let mut pairing: Vec<Option<usize>> = vec![None; modes.len()];
+        let mut by_q: Vec<usize> = (0..modes.len()).collect();
+        by_q.sort_by(|&a, &b| modes[b].q.total_cmp(&modes[a].q).then(a.cmp(&b)));
+        for k in by_q {
+            let md = &modes[k];
+            let best = (0..accs.len())
+                .filter(|&a| !used[a] && matches(&accs[a], md, dt))
+                .max_by(|&a, &b| {
+                    let off = |x: usize| (accs[x].freq_hz / sampled(md, dt) - 1.0).abs();
+                    accs[a]
+                        .samples()
+                        .cmp(&accs[b].samples())
+                        .then(off(b).total_cmp(&off(a)))
+                        .then(b.cmp(&a))
+                });
+            if let Some(a) = best {
+                used[a] = true;
             }
+            pairing[k] = best;
         }
-    }
-    // Each mode's transform (the longest that matches it, each used once),
-    // then the modes separated from one another (modefield::demix). The
-    // modes choose in order of decreasing Q: a strongly damped mode's
-    // match is wide (its half bandwidth), and chosen first it could take
-    // the transform of a sharp mode nearby, which would then be missing
-    // from the separation and, ringing on, leak into every other mode's
-    // field. Measured on a hemisphere searched over a wide band, with its
-    // transforms opened late (the early fields kept to the first scout
-    // only): a Q 1.6 mode at 17.1 GHz took a Q 1900 mode's transform at
-    // 20.3 GHz, and TE1's stored-energy Q came out 2126 against 9.15;
-    // with the sharp modes choosing first, 145 (and 9.05 once the early
-    // fields reach the second scout: tests/radiation.rs,
-    // `a_wide_band_keeps_every_ringing_mode_s_field`).
-    let mut used = vec![false; accs.len()];
-    let mut pairing: Vec<Option<usize>> = vec![None; modes.len()];
-    let mut by_q: Vec<usize> = (0..modes.len()).collect();
-    by_q.sort_by(|&a, &b| modes[b].q.total_cmp(&modes[a].q).then(a.cmp(&b)));
-    for k in by_q {
-        let md = &modes[k];
-        let best = (0..accs.len())
-            .filter(|&a| !used[a] && matches(&accs[a], md))
-            .max_by(|&a, &b| {
-                let off = |x: usize| (accs[x].freq_hz / sampled(md) - 1.0).abs();
-                accs[a]
-                    .samples()
-                    .cmp(&accs[b].samples())
-                    .then(off(b).total_cmp(&off(a)))
-                    .then(b.cmp(&a))
-            });
-        if let Some(a) = best {
-            used[a] = true;
-        }
-        pairing[k] = best;
-    }
-    let poles: Vec<crate::modefield::Pole> = modes
-        .iter()
-        .zip(&pairing)
-        .filter_map(|(md, a)| {
-            a.map(|a| crate::modefield::Pole {
-                acc: &accs[a],
-                s: Complex64::new(-md.decay, 2.0 * std::f64::consts::PI * sampled(md)),
+        let poles: Vec<crate::modefield::Pole> = modes
+            .iter()
+            .zip(&pairing)
+            .filter_map(|(md, a)| {
+                a.map(|a| crate::modefield::Pole {
+                    acc: &accs[a],
+                    s: Complex64::new(-md.decay, 2.0 * std::f64::consts::PI * sampled(md, dt)),
+                })
             })
-        })
-        .collect();
-    let separated = crate::modefield::demix(&poles, plan.dt);
-    let mut separated = separated.map(|v| v.into_iter());
-    let mode_fields: Vec<Option<ModeField>> = modes
-        .iter()
-        .zip(&pairing)
-        .map(|(md, a)| {
-            a.map(|a| {
-                let mut mf = match separated.as_mut() {
-                    Some(it) => it.next().expect("one field per pole"),
-                    None => accs[a].finish(),
-                };
-                mf.freq_hz = md.freq_hz;
-                mf.fill_axis(g.nr, g.nz, m);
-                mf
+            .collect();
+        let separated = crate::modefield::demix(&poles, dt);
+        let mut separated = separated.map(|v| v.into_iter());
+        let mode_fields: Vec<Option<ModeField>> = modes
+            .iter()
+            .zip(&pairing)
+            .map(|(md, a)| {
+                a.map(|a| {
+                    let mut mf = match separated.as_mut() {
+                        Some(it) => it.next().expect("one field per pole"),
+                        None => accs[a].finish(),
+                    };
+                    mf.freq_hz = md.freq_hz;
+                    mf.fill_axis(g.nr, g.nz, m);
+                    mf
+                })
             })
+            .collect();
+        fill_axis(&mut self.f, m);
+        let samples = self.signals[0].len();
+        let step = self.step;
+        let cell_updates = (g.cells() as u64) * step as u64;
+        self.progress
+            .finished(m, cell_updates, planned_cell_updates(self.problem, plan));
+        Ok(RunOutput {
+            report: RunReport {
+                m,
+                nr: g.nr,
+                nz: g.nz,
+                dr: g.dr,
+                dz: g.dz,
+                dt,
+                dt_max: plan.stability.dt_max,
+                axis_rod: plan.axis_rod,
+                steps: step,
+                cell_updates,
+                seconds: self.busy + self.since.elapsed().as_secs_f64(),
+                stretches: self.stretches,
+                samples,
+                sample_dt: plan.sample_dt,
+                checks: self.checks,
+                converged: self.converged,
+                surface_correction: self.coeffs.coupling.as_ref().map(|cp| cp.correction),
+            },
+            modes,
+            signals: self.signals,
+            fields: self.f,
+            mode_fields,
+            grid: g.clone(),
+            walls: self.problem.walls,
         })
-        .collect();
-    fill_axis(&mut f, m);
-    let samples = signals[0].len();
-    progress.finished(
-        m,
-        (g.cells() as u64) * step as u64,
-        planned_cell_updates(problem, plan),
-    );
-    Ok(RunOutput {
-        report: RunReport {
-            m,
-            nr: g.nr,
-            nz: g.nz,
-            dr: g.dr,
-            dz: g.dz,
-            dt: plan.dt,
-            dt_max: plan.stability.dt_max,
-            axis_rod: plan.axis_rod,
-            steps: step,
-            cell_updates: (g.cells() as u64) * step as u64,
-            seconds: start.elapsed().as_secs_f64(),
-            samples,
-            sample_dt: plan.sample_dt,
-            checks,
-            converged,
-            surface_correction: coeffs.coupling.as_ref().map(|cp| cp.correction),
-        },
-        modes,
-        signals,
-        fields: f,
-        mode_fields,
-        grid: g.clone(),
-        walls: problem.walls,
-    })
+    }
 }
 
 /// Poles whose RMS is below this fraction of the run's largest probe value
