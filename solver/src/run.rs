@@ -63,10 +63,10 @@ pub struct RunReport {
     /// Time a thread spent on the run (its stretches, summed), harmonic
     /// inversion included, s.
     pub seconds: f64,
-    /// Stretches the run was stepped in: 1 when it kept one thread to the
-    /// end, more when it took turns with other runs (see
+    /// Times the run handed its thread to another run and waited for its
+    /// turn: 0 when it kept one thread to the end (see
     /// [`crate::RunOptions::stretch_cell_updates`]).
-    pub stretches: usize,
+    pub turns: usize,
     /// Probe samples recorded after the pulse.
     pub samples: usize,
     /// Sample spacing, s.
@@ -307,6 +307,8 @@ fn run_all(
                     };
                     turn = match other {
                         Some(other) => {
+                            let mut ring = ring;
+                            ring.turns += 1;
                             t.waiting.push_back((k, ring));
                             Some(other)
                         }
@@ -521,8 +523,8 @@ struct Ring<'a> {
     /// began.
     busy: f64,
     since: Instant,
-    /// Stretches so far (the present one included).
-    stretches: usize,
+    /// Times the run has waited for a thread.
+    turns: usize,
 }
 
 impl<'a> Ring<'a> {
@@ -579,7 +581,7 @@ impl<'a> Ring<'a> {
             decayed: false,
             busy: 0.0,
             since,
-            stretches: 1,
+            turns: 0,
         };
         let table: Vec<f64> = (0..plan.source_steps)
             .map(|n| plan.pulse.current((n as f64 + 0.5) * plan.dt))
@@ -632,7 +634,6 @@ impl<'a> Ring<'a> {
     /// Marks the start of a stretch on some thread (for the run's time).
     fn resume(&mut self) {
         self.since = Instant::now();
-        self.stretches += 1;
     }
 
     /// Marks the end of a stretch.
@@ -870,7 +871,7 @@ impl<'a> Ring<'a> {
                 steps: step,
                 cell_updates,
                 seconds: self.busy + self.since.elapsed().as_secs_f64(),
-                stretches: self.stretches,
+                turns: self.turns,
                 samples,
                 sample_dt: plan.sample_dt,
                 checks: self.checks,
