@@ -288,14 +288,14 @@ fn run_all(
                     }
                 };
                 if ring.advance(stretch)? {
-                    ring.finish().map(Ok)
+                    ring.finish().map(|out| Stretch::Ended(Box::new(out)))
                 } else {
                     ring.pause();
-                    Ok(Err(ring))
+                    Ok(Stretch::Paused(ring))
                 }
             });
             let done = match stepped {
-                Ok(Err(ring)) => {
+                Ok(Stretch::Paused(ring)) => {
                     closing.1 = false;
                     let mut t = lock();
                     let other = if let Some((j, r)) = t.waiting.pop_front() {
@@ -316,7 +316,7 @@ fn run_all(
                     };
                     continue;
                 }
-                Ok(Ok(out)) => Ok(out),
+                Ok(Stretch::Ended(out)) => Ok(*out),
                 Err(e) => Err(e),
             };
             *slots[k].lock().unwrap_or_else(|e| e.into_inner()) = Some(done);
@@ -361,6 +361,14 @@ fn run_all(
                 .expect("every run was taken by a worker")
         })
         .collect()
+}
+
+/// How a run's stretch on a thread ended.
+enum Stretch<'a> {
+    /// At a probe sample, the run to go on later.
+    Paused(Box<Ring<'a>>),
+    /// With the run's end.
+    Ended(Box<RunOutput>),
 }
 
 /// On drop: closes a run's team, if armed (the run has ended).
