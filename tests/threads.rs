@@ -24,18 +24,20 @@ f_min = 8.0
 f_max = 21.0
 "#;
 
+/// A rayon pool of `threads` threads, for one comparison.
+fn pool(threads: usize) -> rayon::ThreadPool {
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .expect("a rayon pool")
+}
+
 #[test]
 fn one_and_two_threads_give_identical_bits() {
     let s = Scenario::parse(PUCK, "puck").unwrap();
     let mut problem = s.problem().unwrap();
     problem.options.row_parallel_cells = 0;
-    let run_with = |threads: usize| {
-        rayon::ThreadPoolBuilder::new()
-            .num_threads(threads)
-            .build()
-            .unwrap()
-            .install(|| solve(&problem, &s.m).unwrap())
-    };
+    let run_with = |threads: usize| pool(threads).install(|| solve(&problem, &s.m).unwrap());
     let one = run_with(1);
     let two = run_with(2);
     let mut n = 0;
@@ -116,12 +118,6 @@ fn radiation_figures_do_not_depend_on_the_threads() {
     // their order and the skipped list must be those of one thread.
     use lathe::radiation::{radiation, RadiationOptions};
     let s = Scenario::parse(SPHERE, "hemisphere").unwrap();
-    let pool = |threads: usize| {
-        rayon::ThreadPoolBuilder::new()
-            .num_threads(threads)
-            .build()
-            .unwrap()
-    };
     let study = pool(2).install(|| lathe::study::run_study(&s).unwrap());
     let figures = |threads: usize| {
         pool(threads).install(|| {
@@ -150,13 +146,7 @@ fn runs_taking_turns_give_the_bits_of_one_thread() {
     let mut problem = s.problem().unwrap();
     problem.options.row_parallel_cells = 0;
     problem.options.stretch_cell_updates = 1;
-    let run_with = |threads: usize| {
-        rayon::ThreadPoolBuilder::new()
-            .num_threads(threads)
-            .build()
-            .unwrap()
-            .install(|| solve(&problem, &s.m).unwrap())
-    };
+    let run_with = |threads: usize| pool(threads).install(|| solve(&problem, &s.m).unwrap());
     let one = run_with(1);
     assert!(
         one.iter().all(|r| r.report.turns == 0),
